@@ -1,0 +1,1 @@
+"""OpenMDAO components of bypassopt, grouped by discipline."""

@@ -1,0 +1,1 @@
+"""ISO 2533 standard atmosphere and flight-condition components."""

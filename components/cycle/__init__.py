@@ -1,0 +1,1 @@
+"""Design-point elements of a separate-exhaust two-spool turbofan."""

@@ -1,0 +1,1 @@
+"""Fan sizing, nacelle geometry and drag, engine mass, ground clearance and installed performance."""

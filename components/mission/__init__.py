@@ -1,0 +1,1 @@
+"""Mission fuel from the Breguet range equation."""

@@ -1,0 +1,1 @@
+"""Ready-made OpenMDAO problems built from the bypassopt components."""
