@@ -67,9 +67,9 @@ class AtmosphereComp(om.ExplicitComponent):
     * dynamic viscosity by the standard's Sutherland law,
       :math:`\mu = \beta_s T_s^{1.5}/(T_s + S)`.
 
-    Constants (ISO 2533:1975): :math:`R = 287.05287` J/(kg K), :math:`g_0 = 9.80665` m/s², :math:`T_0 = 288.15` K,
-    :math:`p_0 = 101\,325` Pa, :math:`L = -0.0065` K/m, :math:`\beta_s = 1.458\times10^{-6}` kg/(m s K^0.5),
-    :math:`S = 110.4` K.
+    Constants (ISO 2533:1975): :math:`R = 287.05287` J/(kg K), :math:`g_0 = 9.80665` m/s²,
+    :math:`T_0 = 288.15` K, :math:`p_0 = 101\,325` Pa, :math:`L = -0.0065` K/m,
+    :math:`\beta_s = 1.458\times10^{-6}` kg/(m s K^0.5), :math:`S = 110.4` K.
 
     Source: ISO 2533:1975 *Standard Atmosphere* (= ICAO Doc 7488/3 = US Standard Atmosphere 1976 below 20 km).
     Valid range: geopotential altitude 0 to 20 000 m, temperature offset -60 to +60 K. Outside it

@@ -29,7 +29,7 @@ def _in_tmp_path(tmp_path, monkeypatch):
 def _run(altitude, dT_isa=0.0):
     altitude = np.atleast_1d(np.asarray(altitude, dtype=float))
     nn = altitude.size
-    prob = om.Problem()
+    prob = om.Problem(reports=False)
     prob.model.add_subsystem("atm", AtmosphereComp(num_nodes=nn), promotes=["*"])
     prob.setup(force_alloc_complex=True)
     prob.set_val("altitude", altitude, units="m")
@@ -105,6 +105,7 @@ def test_temperature_offset(dT):
 
 @pytest.mark.parametrize("nn", [5, 1])
 def test_partials(nn):
+    """Analytic partials match complex step in both layers and with a temperature offset."""
     rng = np.random.default_rng(SEED + nn)
     if nn == 1:
         H = np.array([7300.0])
@@ -112,7 +113,7 @@ def test_partials(nn):
         # Spread across both layers, away from the 11 km kink in dT/dH.
         H = np.concatenate([rng.uniform(0.0, 10500.0, 3), rng.uniform(11500.0, 20000.0, nn - 3)])
     dT = rng.uniform(-40.0, 40.0, nn)
-    prob = om.Problem()
+    prob = om.Problem(reports=False)
     prob.model.add_subsystem("atm", AtmosphereComp(num_nodes=nn), promotes=["*"])
     prob.setup(force_alloc_complex=True)
     prob.set_val("altitude", H)
@@ -124,11 +125,13 @@ def test_partials(nn):
 
 @pytest.mark.parametrize("H", [-100.0, 25000.0, np.nan])
 def test_bad_altitude(H):
+    """Altitude below 0, above 20 km or NaN is refused with the variable and range named."""
     with pytest.raises(InputRangeError, match=r"altitude.*from 0 up to 20000 m"):
         _run([5000.0, H])
 
 
 @pytest.mark.parametrize("dT", [-61.0, 75.0, np.nan])
 def test_bad_dT_isa(dT):
+    """A temperature offset outside +-60 K or NaN is refused with the variable and range named."""
     with pytest.raises(InputRangeError, match=r"dT_isa.*from -60 up to 60 K"):
         _run([5000.0], dT)
