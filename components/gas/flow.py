@@ -178,16 +178,20 @@ def mach_from_flow_per_area(gas, Tt, Pt, W_per_A, far):
     check_range("flow per unit area", W_per_A, 0.0, np.inf, "kg/(s*m**2)", lower_inclusive=False)
     star = sonic(gas, np.real(Tt), np.real(Pt), np.real(far))
     ratio = np.real(W_per_A) / star.W_per_A
-    check_range("flow per unit area / choked flow per unit area", ratio, 0.0, 1.0)
-    # Newton on real parts, starting from a low-Mach estimate
+    # The choked flow itself (ratio 1) has an infinite dMach/dflow: only strictly subsonic flows.
+    check_range("flow per unit area / choked flow per unit area (1 = choked)", ratio, 0.0, 1.0 - 1e-9,
+                upper_inclusive=False)
+    # Newton on real parts, starting from a low-Mach estimate; converged on the residual, because the
+    # flow function is flat near Mach 1 and a test on the Mach step would stall there.
     M = np.clip(0.6 * ratio, 0.01, 0.99)
     Tr, Pr, Wr, fr = np.real(Tt), np.real(Pt), np.real(W_per_A), np.real(far)
-    for _ in range(_NEWTON_MAXITER):
+    for _ in range(4 * _NEWTON_MAXITER):
         s = static_from_total(gas, Tr, Pr, M, fr)
-        step = (Wr - s.W_per_A) / s.d["W_per_A", "Mach"]
-        M = np.clip(M + step, 1e-6, 0.999999)
-        if np.all(np.abs(step) <= _NEWTON_TOL):
+        res = Wr - s.W_per_A
+        if np.all(np.abs(res) <= 1e-13 * Wr):
             break
+        step = res / s.d["W_per_A", "Mach"]
+        M = np.clip(M + step, 1e-6, 0.5 * (M + 1.0))
     else:  # pragma: no cover
         raise RuntimeError("Mach number from flow per area did not converge")
     s = static_from_total(gas, Tt, Pt, M, far)
