@@ -1,0 +1,116 @@
+"""Design-point cycle of a separate-exhaust two-spool turbofan, sized to a net-thrust requirement."""
+
+import numpy as np
+import openmdao.api as om
+
+from bypassopt.components.atmosphere.flight_condition_group import FlightConditionGroup
+from bypassopt.components.gas.thermo import ThermallyPerfectGas
+
+from .burner_comp import BurnerComp
+from .compressor_comp import CompressorComp
+from .cooling_comp import CoolingBleedComp
+from .cooling_mix_comp import CoolingMixComp
+from .duct_comp import DuctComp
+from .fan_comp import FanComp
+from .inlet_comp import InletComp
+from .nozzle_comp import NozzleComp
+from .performance_comp import PerformanceComp
+from .sizing_comp import SizingComp
+from .spool_power_comp import SpoolPowerComp
+from .turbine_comp import TurbineComp
+
+
+class TurbofanCycleGroup(om.Group):
+    """Separate-exhaust two-spool turbofan at its design point, with the flight condition.
+
+    Inputs a user sets (all promoted): ``altitude``, ``dT_isa``, ``Mach0`` (flight condition);
+    ``BPR``, ``FPR``, ``OPR``, ``Tt4`` (cycle choices); ``booster_PR``; ``Fn_required`` (net thrust,
+    N); component efficiencies and losses (``*_eff_poly``, ``inlet_recovery``, ``burner_dPqP``,
+    ``combustion_eff``, ``*_duct_dPqP``, nozzle coefficients, ``*_mech_eff``), extractions
+    (``customer_bleed_frac``, cooling fractions or correlation constants), ``HP_power_offtake`` (W),
+    ``fuel_LHV``.
+
+    Outputs: every station's ``Tt*``, ``Pt*`` (and ``FAR*``, ``W*_frac`` in the core), ``W2``,
+    ``fuel_flow``, ``Fn_specific``, ``TSFC``, jet velocities ``Fg8_specific``/``Fg18_specific`` and
+    ``jet_velocity_ratio``, thermal/propulsive/overall efficiencies, ``Tt3``, ``Tt41``,
+    ``W3_corrected`` (core size), ``HP_shaft_power``, ``LP_shaft_power``.
+
+    The elements work per unit inlet air flow; ``W2`` = ``Fn_required``/``Fn_specific``. The HP
+    shaft offtake (W) divided by W2 enters the HP spool balance, which closes a loop through W2;
+    with ``solve_sizing=True`` this group solves it with a Newton solver and a direct linear solver
+    (one or two iterations, since the offtake is small). A parent group that closes a larger loop
+    (the installed engine) sets ``solve_sizing=False`` and solves everything at once.
+
+    Options select textbook special cases: ``gas=CaloricallyPerfectGas(...)`` switches every element
+    to constant cp/gamma, ``include_fuel_mass=False`` neglects the fuel mass in the flows and the
+    burner balance, ``nozzle_expansion='full'`` expands both jets to ambient pressure.
+    """
+
+    def initialize(self):
+        """Declare options."""
+        self.options.declare("num_nodes", types=int, default=1, desc="number of design points evaluated at once")
+        self.options.declare("gas", default=ThermallyPerfectGas(), types=object, recordable=False,
+                             desc="working-gas model used by every element")
+        self.options.declare("include_fuel_mass", types=bool, default=True,
+                             desc="include the fuel mass in the flows (False: textbook ideal cycle)")
+        self.options.declare("nozzle_expansion", default="convergent", values=("convergent", "full"),
+                             desc="convergent nozzles (choked or not) or full expansion to ambient pressure")
+        self.options.declare("cooling_model", default="correlation", values=("given", "correlation"),
+                             desc="turbine cooling fractions given, or from the cooling-effectiveness correlation")
+        self.options.declare("fan_core_side_ratio", default="equal", values=("equal", "input"),
+                             desc="fan core-side pressure ratio equal to FPR, or an input of its own")
+        self.options.declare("solve_sizing", types=bool, default=True,
+                             desc="solve the W2 <-> HP offtake loop here (False: a parent group solves it)")
+
+    def setup(self):
+        """Assemble the elements in flow order."""
+        nn = self.options["num_nodes"]
+        gas = self.options["gas"]
+        fuel = self.options["include_fuel_mass"]
+        common = {"num_nodes": nn, "gas": gas}
+
+        self.add_subsystem("flight", FlightConditionGroup(**common), promotes=["*"])
+        self.add_subsystem("inlet", InletComp(**common), promotes=["*"])
+        self.add_subsystem("fan", FanComp(core_side_ratio=self.options["fan_core_side_ratio"], **common),
+                           promotes=["*"])
+        self.add_subsystem("booster", CompressorComp(station_in="21", station_out="25", name="booster",
+                                                     ratio_from="PR", **common), promotes=["*"])
+        self.add_subsystem("lp_power", SpoolPowerComp(spool="LP", num_nodes=nn), promotes=["*"])
+        self.add_subsystem("hpc", CompressorComp(station_in="25", station_out="3", name="hpc",
+                                                 ratio_from="OPR", **common), promotes=["*"])
+        self.add_subsystem("hp_power", SpoolPowerComp(spool="HP", num_nodes=nn), promotes=["*"])
+        self.add_subsystem("cooling", CoolingBleedComp(cooling_model=self.options["cooling_model"], **common),
+                           promotes=["*"])
+        self.add_subsystem("burner", BurnerComp(include_fuel_mass=fuel, **common), promotes=["*"])
+        self.add_subsystem("vane_mix", CoolingMixComp(station_in="4", station_out="41",
+                                                      coolant_name="cooling_frac_vane",
+                                                      include_fuel_mass=fuel, **common), promotes=["*"])
+        self.add_subsystem("hpt", TurbineComp(station_in="41", station_out="44", name="hpt", spool="HP",
+                                              **common), promotes=["*"])
+        self.add_subsystem("rotor_mix", CoolingMixComp(station_in="44", station_out="45",
+                                                       coolant_name="cooling_frac_rotor",
+                                                       include_fuel_mass=fuel, **common), promotes=["*"])
+        self.add_subsystem("lpt", TurbineComp(station_in="45", station_out="5", name="lpt", spool="LP",
+                                              **common), promotes=["*"])
+        self.add_subsystem("core_duct", DuctComp(station_in="5", station_out="7", name="core_duct", **common),
+                           promotes=["*"])
+        self.add_subsystem("bypass_duct", DuctComp(station_in="13", station_out="17", name="bypass_duct",
+                                                   **common), promotes=["*"])
+        expansion = self.options["nozzle_expansion"]
+        self.add_subsystem("core_nozzle", NozzleComp(station_in="7", station_throat="8", stream="core",
+                                                     expansion=expansion, **common), promotes=["*"])
+        self.add_subsystem("bypass_nozzle", NozzleComp(station_in="17", station_throat="18", stream="bypass",
+                                                       expansion=expansion, **common), promotes=["*"])
+        self.add_subsystem("performance", PerformanceComp(num_nodes=nn), promotes=["*"])
+        self.add_subsystem("sizing", SizingComp(num_nodes=nn), promotes=["*"])
+
+        ones = np.ones(nn)
+        self.set_input_defaults("BPR", 10.0 * ones)
+        self.set_input_defaults("Tt4", 1650.0 * ones, units="K")
+        self.set_input_defaults("fuel_LHV", 43.0e6 * ones, units="J/kg")
+
+        if self.options["solve_sizing"]:
+            newton = self.nonlinear_solver = om.NewtonSolver(solve_subsystems=True, max_sub_solves=100, maxiter=30, iprint=-1,
+                                                             atol=1e-10, rtol=1e-12, err_on_non_converge=True)
+            newton.linesearch = om.BoundsEnforceLS(bound_enforcement="scalar", iprint=-1)
+            self.linear_solver = om.DirectSolver()
