@@ -26,7 +26,7 @@ _INPUTS = (
     ("core_cowl_wetted_area", 4.0, 0.0, 100.0, True, "m**2", "Wetted area of the exposed core cowl"),
     ("plug_length", 0.6, 0.01, 10.0, True, "m", "Length of the core-nozzle plug"),
     ("plug_wetted_area", 0.5, 0.0, 100.0, True, "m**2", "Wetted area of the core-nozzle plug"),
-    ("pylon_drag_area", 0.05, 0.0, 5.0, True, "m**2",
+    ("pylon_drag_area", 0.025, 0.0, 5.0, True, "m**2",
      "Pylon drag area C_D*S referred to the free-stream dynamic pressure (demo value)"),
 )
 

@@ -1,0 +1,73 @@
+"""Installed engine: cycle sized to the airframe's thrust plus its own nacelle drag, mass, clearance, mission fuel."""
+
+import openmdao.api as om
+
+from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
+from bypassopt.components.gas.thermo import ThermallyPerfectGas
+from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
+
+from .engine_mass_comp import EngineMassComp
+from .fan_sizing_comp import FanSizingComp
+from .ground_clearance_comp import GroundClearanceComp
+from .installed_performance_comp import InstalledPerformanceComp
+from .nacelle_drag_comp import NacelleDragComp
+from .nacelle_geometry_comp import NacelleGeometryComp
+
+
+class InstalledEngineGroup(om.Group):
+    """Turbofan cycle, fan sizing, nacelle geometry and drag, mass, ground clearance and mission fuel.
+
+    The engine must deliver the airframe's thrust requirement plus its own nacelle drag, and that
+    drag grows with the engine size: W2 -> fan diameter -> nacelle -> drag -> Fn_required -> W2.
+    This loop (and the HP-offtake loop of the cycle) is solved by a Newton solver with a direct
+    linear solver, so total derivatives are taken through the converged system.
+
+    Promoted inputs a user connects: flight condition (``altitude``, ``dT_isa``, ``Mach0``), the cycle
+    choices (``BPR``, ``FPR``, ``OPR``, ``Tt4``), ``thrust_required`` (N per engine, before nacelle
+    drag), installation geometry (``wing_height``, ``nacelle_wing_gap``, ``min_ground_clearance``,
+    ``max_nacelle_diameter``, nacelle proportions), and, with ``include_mission``, the aircraft
+    (``empty_mass_no_engines``, ``payload``, ``design_range``, ``lift_to_drag``, ...).
+
+    Promoted outputs: ``installed_TSFC``, ``installed_thrust``, ``nacelle_drag``,
+    ``nacelle_max_diameter``, ``fan_tip_diameter``, ``clearance_margin``, ``diameter_margin``,
+    ``powerplant_mass``, ``mission_fuel`` and every cycle output (``TSFC``, ``Tt41``, ``Tt3``,
+    ``W3_corrected``, ...). The cruise speed of the mission is the design-point flight speed V0 and
+    the cruise TSFC is the design-point installed TSFC (only the design point is modelled).
+    """
+
+    def initialize(self):
+        """Declare options."""
+        self.options.declare("num_nodes", types=int, default=1, desc="number of designs evaluated at once")
+        self.options.declare("gas", default=ThermallyPerfectGas(), types=object, recordable=False,
+                             desc="working-gas model")
+        self.options.declare("cooling_model", default="correlation", values=("given", "correlation"),
+                             desc="turbine cooling fractions given, or from the cooling correlation")
+        self.options.declare("include_mission", types=bool, default=True,
+                             desc="add the Breguet mission-fuel component")
+        self.options.declare("num_engines", types=int, default=2, desc="engines on the aircraft")
+
+    def setup(self):
+        """Assemble and configure the coupled solve."""
+        nn = self.options["num_nodes"]
+        gas = self.options["gas"]
+        self.add_subsystem("cycle", TurbofanCycleGroup(num_nodes=nn, gas=gas, solve_sizing=False,
+                                                       cooling_model=self.options["cooling_model"]),
+                           promotes=["*"])
+        self.add_subsystem("fan_sizing", FanSizingComp(num_nodes=nn, gas=gas), promotes=["*"])
+        self.add_subsystem("nacelle", NacelleGeometryComp(num_nodes=nn), promotes=["*"])
+        self.add_subsystem("drag", NacelleDragComp(num_nodes=nn),
+                           promotes_inputs=["*", ("V18_jet", "V18_full"), ("rho18_jet", "rho18_full"),
+                                            ("Ts18_jet", "Ts18_full"), ("Mach18_jet", "MN18_full")],
+                           promotes_outputs=["*"])
+        self.add_subsystem("installed", InstalledPerformanceComp(num_nodes=nn), promotes=["*"])
+        self.add_subsystem("mass", EngineMassComp(num_nodes=nn), promotes=["*"])
+        self.add_subsystem("clearance", GroundClearanceComp(num_nodes=nn), promotes=["*"])
+        if self.options["include_mission"]:
+            self.add_subsystem("mission", MissionFuelComp(num_nodes=nn, num_engines=self.options["num_engines"]),
+                               promotes_inputs=["*", ("cruise_speed", "V0")], promotes_outputs=["*"])
+        self.set_input_defaults("Mach0", 0.78)
+
+        newton = self.nonlinear_solver = om.NewtonSolver(solve_subsystems=True, max_sub_solves=100, maxiter=40, iprint=-1,
+                                                         atol=1e-9, rtol=1e-12, err_on_non_converge=True)
+        newton.linesearch = om.BoundsEnforceLS(bound_enforcement="scalar", iprint=-1)
+        self.linear_solver = om.DirectSolver()

@@ -1,0 +1,135 @@
+"""Best installed cycle: minimise mission fuel (or installed TSFC) over BPR, OPR, FPR and T4 under limits."""
+
+import numpy as np
+import openmdao.api as om
+
+from bypassopt.components.gas.thermo import ThermallyPerfectGas
+from bypassopt.components.installation.installed_engine_group import InstalledEngineGroup
+from bypassopt.problems.drivers import make_driver
+from bypassopt.scenario import CONSTRAINT_LIMITS, DESIGN_VARIABLES, ScenarioError, load_scenario, model_inputs
+
+#: Objective choices: name -> (model output, units, reference magnitude for scaling).
+OBJECTIVES = {
+    "mission_fuel": ("mission_fuel", "kg", 1.0e4),
+    "installed_TSFC": ("installed_TSFC", "mg/(N*s)", 10.0),
+}
+
+#: Constraints of the best-installed-cycle problem: name -> (model output, kind, units, scaling ref).
+#: 'lower' means output >= limit. The limits of T41, T3 and core size come from the scenario.
+GEOMETRY_CONSTRAINTS = {
+    "clearance_margin": ("clearance_margin", "lower", "m", 0.1),
+    "diameter_margin": ("diameter_margin", "lower", "m", 0.1),
+}
+_LIMIT_SCALING = {"Tt41": ("K", 100.0), "Tt3": ("K", 100.0), "W3_corrected": ("kg/s", 1.0)}
+
+
+def gas_for(scenario):
+    """Working-gas model with the scenario's fuel hydrogen-to-carbon ratio."""
+    return ThermallyPerfectGas(hc_ratio=scenario["engine"].get("fuel_hc_ratio", 1.92))
+
+
+def apply_scenario(prob, scenario, skip=()):
+    """Set every promoted model input the scenario defines (broadcast over the problem's nodes)."""
+    for name, (value, units) in model_inputs(scenario).items():
+        if name in skip:
+            continue
+        prob.set_val(name, value, units=units)
+
+
+def build_installed_model(scenario, num_nodes=1):
+    """InstalledEngineGroup configured for the scenario (number of engines, fuel)."""
+    return InstalledEngineGroup(num_nodes=num_nodes, gas=gas_for(scenario),
+                                num_engines=scenario["aircraft"]["num_engines"])
+
+
+def build_evaluation_problem(scenario=None, num_nodes=1, design=None):
+    """A set-up problem of the installed engine (no driver) with the scenario applied.
+
+    Parameters
+    ----------
+    scenario : dict or None
+        Validated scenario (``bypassopt.scenario.load_scenario``); None gives the demo.
+    num_nodes : int
+        Designs evaluated at once.
+    design : dict or None
+        Design-variable overrides {model input: value or array}, e.g. {'BPR': 11.0}.
+    """
+    scenario = scenario or load_scenario()
+    prob = om.Problem(build_installed_model(scenario, num_nodes), reports=False)
+    prob.setup(force_alloc_complex=True)
+    apply_scenario(prob, scenario)
+    for name, value in (design or {}).items():
+        prob.set_val(name, value)
+    return prob
+
+
+def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorder_path=None):
+    """Ready best-installed-cycle optimisation problem (set up, scenario applied, not run).
+
+    Minimises ``mission_fuel`` (or ``installed_TSFC``) over the design variables the scenario marks
+    ``optimize = true`` (BPR, OPR, optionally FPR and T4), subject to nacelle ground-clearance margin
+    >= 0, nacelle diameter <= limit, T41 <= limit, T3 <= limit and HPC exit corrected flow >= limit.
+    Design variables are scaled to [0, 1] over their bounds and constraints by typical magnitudes,
+    so SLSQP converges in tens of iterations.
+
+    Parameters
+    ----------
+    scenario : dict or None
+        Validated scenario; None gives the built-in demo.
+    objective : str or None
+        'mission_fuel' or 'installed_TSFC'; None takes the scenario's choice.
+    driver : str or None
+        'SLSQP' (SciPy), or 'SNOPT', 'IPOPT', 'pyoptsparse-SLSQP' when pyoptsparse is installed.
+    recorder_path : str or None
+        SQLite file for OpenMDAO's case recorder (driver iterations, readable with ``om.CaseReader``).
+    """
+    scenario = scenario or load_scenario()
+    opt = scenario["optimizer"]
+    objective = objective or opt["objective"]
+    if objective not in OBJECTIVES:
+        raise ScenarioError(f"objective {objective!r} is not one of {', '.join(OBJECTIVES)}")
+    prob = om.Problem(build_installed_model(scenario), reports=False)
+    prob.driver = make_driver(driver or opt["driver"], opt["maxiter"], opt["tol"])
+    model = prob.model
+    free = []
+    for key, (var, _, _, _) in DESIGN_VARIABLES.items():
+        dv = scenario["design_variables"][key]
+        if dv["optimize"]:
+            units = "K" if key.endswith("_K") else None
+            model.add_design_var(var, lower=dv["lower"], upper=dv["upper"], ref0=dv["lower"], ref=dv["upper"],
+                                 units=units)
+            free.append(var)
+    if not free:
+        raise ScenarioError("design_variables: no variable has optimize = true")
+    out, units, ref = OBJECTIVES[objective]
+    model.add_objective(out, units=units, ref=ref)
+    limits = {}
+    for name, (var, kind, cunits, cref) in GEOMETRY_CONSTRAINTS.items():
+        model.add_constraint(var, lower=0.0, units=cunits, ref=cref)
+        limits[var] = (kind, 0.0, cunits)
+    for key, (var, kind, _) in CONSTRAINT_LIMITS.items():
+        limit = scenario["limits"][key]
+        cunits, cref = _LIMIT_SCALING[var]
+        bound = {"upper": limit} if kind == "upper" else {"lower": limit}
+        model.add_constraint(var, units=cunits, ref=cref, **bound)
+        limits[var] = (kind, limit, cunits)
+    if recorder_path:
+        recorder = om.SqliteRecorder(str(recorder_path))
+        prob.driver.add_recorder(recorder)
+        prob.driver.recording_options["includes"] = ["*"]
+        prob.driver.recording_options["record_desvars"] = True
+        prob.driver.recording_options["record_objectives"] = True
+        prob.driver.recording_options["record_constraints"] = True
+    prob.setup(force_alloc_complex=True)
+    apply_scenario(prob, scenario)
+    prob.bypassopt_scenario = scenario
+    prob.bypassopt_objective = objective
+    prob.bypassopt_limits = limits
+    prob.bypassopt_design_vars = {var: scenario["design_variables"][key] for key, (var, _, _, _)
+                                  in DESIGN_VARIABLES.items() if scenario["design_variables"][key]["optimize"]}
+    return prob
+
+
+def constraint_limits(prob):
+    """{model output: (kind, limit, units)} of a best-cycle problem's constraints ('lower': output >= limit)."""
+    return dict(prob.bypassopt_limits)

@@ -1,0 +1,122 @@
+"""Karush-Kuhn-Tucker check and shadow prices of an optimum, from the analytic total derivatives."""
+
+import numpy as np
+
+from .best_cycle import constraint_limits
+
+#: A constraint (or design-variable bound) counts as active when within this fraction of its scaling
+#: reference of its limit.
+ACTIVE_TOL = 1e-4
+
+
+def kkt_analysis(prob, active_tol=ACTIVE_TOL):
+    """Lagrange multipliers, shadow prices and KKT residuals at the current point of a best-cycle problem.
+
+    Every limit is written as c_i(x) <= 0 (an upper limit U on g: c = g - U; a lower limit L: c = L - g;
+    design-variable bounds likewise). At a local optimum of f the KKT conditions are
+
+        grad f + sum_i lambda_i grad c_i = 0,   lambda_i >= 0,   lambda_i c_i = 0
+
+    (Nocedal and Wright, *Numerical Optimization*, 2nd ed., theorem 12.1). The multipliers of the
+    active limits are found by least squares from the analytic total derivatives; inactive ones are 0.
+    A multiplier is the shadow price of its limit: relaxing the limit by one unit lowers the optimum
+    objective by lambda (to first order), i.e. d f*/d U = -lambda for an upper limit U and
+    d f*/d L = +lambda for a lower limit L.
+
+    Returns
+    -------
+    dict
+        ``objective`` (name, units), ``constraints`` {name: {value, limit, kind, units, active, multiplier,
+        shadow_price}} with shadow_price = d(objective)/d(limit) in objective units per limit unit,
+        ``bounds`` {design var: {value, lower, upper, active, multiplier}}, ``projected_gradient`` (norm of
+        the Lagrangian gradient relative to the objective gradient) and ``complementarity`` (largest
+        |lambda_i c_i| relative to |f|).
+    """
+    objective = prob.bypassopt_objective
+    from .best_cycle import OBJECTIVES
+
+    obj_name, obj_units, _ = OBJECTIVES[objective]
+    limits = constraint_limits(prob)
+    dvs = prob.bypassopt_design_vars
+    dv_names = list(dvs)
+    dv_units = {n: ("K" if n == "Tt4" else None) for n in dv_names}
+    of = [obj_name] + list(limits)
+    totals = prob.compute_totals(of=of, wrt=dv_names, return_format="flat_dict", driver_scaling=False)
+    # compute_totals works in model units; convert objective/constraint rows to the requested units
+    grad_f = np.array([_total(prob, totals, obj_name, w, obj_units) for w in dv_names])
+    f_val = float(np.squeeze(prob.get_val(obj_name, units=obj_units)))
+
+    rows, names, info = [], [], {}
+    for name, (kind, limit, units) in limits.items():
+        value = float(np.squeeze(prob.get_val(name, units=units)))
+        grad = np.array([_total(prob, totals, name, w, units) for w in dv_names])
+        sign = 1.0 if kind == "upper" else -1.0
+        c = sign * (value - limit)
+        ref = _constraint_ref(prob, name)
+        active = c > -active_tol * ref
+        info[name] = {"value": value, "limit": limit, "kind": kind, "units": units, "active": bool(active),
+                      "c": c, "multiplier": 0.0, "shadow_price": 0.0}
+        if active:
+            rows.append(sign * grad)
+            names.append(("con", name))
+    bounds = {}
+    for j, name in enumerate(dv_names):
+        value = float(np.squeeze(prob.get_val(name, units=dv_units[name])))
+        lo, hi = dvs[name]["lower"], dvs[name]["upper"]
+        span = hi - lo
+        at_lo, at_hi = value - lo <= active_tol * span, hi - value <= active_tol * span
+        bounds[name] = {"value": value, "lower": lo, "upper": hi, "active": "lower" if at_lo else
+                        ("upper" if at_hi else None), "multiplier": 0.0}
+        if at_lo or at_hi:
+            e = np.zeros(len(dv_names))
+            e[j] = 1.0 if at_hi else -1.0
+            rows.append(e)
+            names.append(("bound", name))
+
+    if rows:
+        A = np.array(rows)  # active constraint gradients, one per row
+        lam, *_ = np.linalg.lstsq(A.T, -grad_f, rcond=None)
+    else:
+        A, lam = np.zeros((0, len(dv_names))), np.zeros(0)
+    for (kind, name), mult in zip(names, lam):
+        if kind == "con":
+            info[name]["multiplier"] = float(mult)
+            sign = 1.0 if info[name]["kind"] == "upper" else -1.0
+            info[name]["shadow_price"] = float(-sign * mult)
+        else:
+            bounds[name]["multiplier"] = float(mult)
+    lagr = grad_f + A.T @ lam
+    scale = max(np.linalg.norm(grad_f), 1e-300)
+    compl = max([abs(v["multiplier"] * v["c"]) for v in info.values()] + [0.0]) / max(abs(f_val), 1e-300)
+    for v in info.values():
+        v.pop("c")
+    return {
+        "objective": {"name": objective, "value": f_val, "units": obj_units},
+        "constraints": info,
+        "bounds": bounds,
+        "projected_gradient": float(np.linalg.norm(lagr) / scale),
+        "gradient_norm": float(np.linalg.norm(grad_f)),
+        "complementarity": float(compl),
+        "dual_feasible": bool(np.all(lam >= -1e-6 * max(1.0, np.max(np.abs(lam), initial=0.0)))),
+    }
+
+
+def _total(prob, totals, of, wrt, units):
+    """d(of)/d(wrt) from the flat totals, converted to ``units`` of ``of`` (wrt in its model units)."""
+    from openmdao.utils.units import convert_units
+
+    key = (of, wrt)
+    d = float(np.squeeze(totals[key]))
+    model_units = prob.model.get_io_metadata(includes=of, metadata_keys=["units"], return_rel_names=False)
+    mu = next((m["units"] for k, m in model_units.items() if k.endswith(of.split(".")[-1])), None)
+    if units and mu and units != mu:
+        d = convert_units(d, mu, units) - convert_units(0.0, mu, units)
+    return d
+
+
+def _constraint_ref(prob, name):
+    meta = prob.model.get_constraints(recurse=True, use_prom_ivc=True)
+    for key, m in meta.items():
+        if key == name or m.get("name") == name:
+            return float(m["ref"]) if m.get("ref") is not None else 1.0
+    return 1.0
