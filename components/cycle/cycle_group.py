@@ -41,6 +41,10 @@ class TurbofanCycleGroup(om.Group):
     (one or two iterations, since the offtake is small). A parent group that closes a larger loop
     (the installed engine) sets ``solve_sizing=False`` and solves everything at once.
 
+    With ``turbine_temperature_input='T41'`` the user sets ``Tt41_required`` (the rotor inlet
+    temperature most limits are written against) and the group solves for ``Tt4`` with a balance
+    (Newton; the parent solves it when ``solve_sizing=False``).
+
     Options select textbook special cases: ``gas=CaloricallyPerfectGas(...)`` switches every element
     to constant cp/gamma, ``include_fuel_mass=False`` neglects the fuel mass in the flows and the
     burner balance, ``nozzle_expansion='full'`` expands both jets to ambient pressure.
@@ -59,6 +63,9 @@ class TurbofanCycleGroup(om.Group):
                              desc="turbine cooling fractions given, or from the cooling-effectiveness correlation")
         self.options.declare("fan_core_side_ratio", default="equal", values=("equal", "input"),
                              desc="fan core-side pressure ratio equal to FPR, or an input of its own")
+        self.options.declare("turbine_temperature_input", default="T4", values=("T4", "T41"),
+                             desc="set the burner exit temperature Tt4, or the HPT rotor inlet temperature "
+                                  "(input Tt41_required; Tt4 then follows from a balance solved by Newton)")
         self.options.declare("solve_sizing", types=bool, default=True,
                              desc="solve the W2 <-> HP offtake loop here (False: a parent group solves it)")
 
@@ -105,11 +112,18 @@ class TurbofanCycleGroup(om.Group):
         self.add_subsystem("sizing", SizingComp(num_nodes=nn), promotes=["*"])
 
         ones = np.ones(nn)
+        if self.options["turbine_temperature_input"] == "T41":
+            # Tt4 becomes a state: Tt41 (after the vane coolant is mixed in) must equal the requirement.
+            balance = om.BalanceComp("Tt4", val=1700.0 * ones, units="K", eq_units="K", lhs_name="Tt41",
+                                     rhs_name="Tt41_required", rhs_val=1600.0 * ones, lower=1000.0, upper=2400.0,
+                                     desc="burner exit temperature that gives the requested rotor inlet temperature")
+            self.add_subsystem("t41_balance", balance, promotes=["*"])
+        else:
+            self.set_input_defaults("Tt4", 1650.0 * ones, units="K")
         self.set_input_defaults("BPR", 10.0 * ones)
-        self.set_input_defaults("Tt4", 1650.0 * ones, units="K")
         self.set_input_defaults("fuel_LHV", 43.0e6 * ones, units="J/kg")
 
-        if self.options["solve_sizing"]:
+        if self.options["solve_sizing"] or self.options["turbine_temperature_input"] == "T41":
             newton = self.nonlinear_solver = om.NewtonSolver(solve_subsystems=True, max_sub_solves=100, maxiter=30, iprint=-1,
                                                              atol=1e-10, rtol=1e-12, err_on_non_converge=True)
             newton.linesearch = om.BoundsEnforceLS(bound_enforcement="scalar", iprint=-1)
