@@ -294,7 +294,7 @@ def _check_consistency(s):
 
 
 def demo_scenario():
-    """The validated built-in demo scenario (an invented 170-seat twin; see the file's header)."""
+    """Return the validated built-in demo scenario (an invented 170-seat twin; see the file's header)."""
     text = resources.files("bypassopt").joinpath("data", DEMO_SCENARIO).read_text(encoding="utf-8")
     data = tomllib.loads(text)
     s = validate(data)

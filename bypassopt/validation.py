@@ -56,3 +56,17 @@ def check_range(name, value, lower=-np.inf, upper=np.inf, units="", lower_inclus
     rng = " ".join(s for s in (lo_s, hi_s) if s) + u
     prefix = f"{where}: " if where else ""
     raise InputRangeError(f"{prefix}{name} = {_fmt(flat[i])}{u}{node} is outside the valid range ({rng}).")
+
+
+def check_positive_option(name, value):
+    """Option validator (``check_valid=``): reject a ``num_nodes``-like integer below 1."""
+    if value < 1:
+        raise ValueError(f"Option '{name}' must be a positive integer, got {value}.")
+
+
+def check_gas_option(name, value):
+    """Option validator (``check_valid=``): require the gas-model interface of ``components/gas/thermo``."""
+    for method in ("properties", "T_from_h", "T_from_phi", "check_temperature"):
+        if not callable(getattr(value, method, None)):
+            raise TypeError(f"Option '{name}' must be a gas model from bypassopt.components.gas.thermo "
+                            f"(it lacks '{method}'); got {value!r}.")

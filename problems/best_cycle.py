@@ -1,6 +1,5 @@
 """Best installed cycle: minimise mission fuel (or installed TSFC) over BPR, OPR, FPR and T4 under limits."""
 
-import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
@@ -43,7 +42,7 @@ def build_installed_model(scenario, num_nodes=1):
 
 
 def build_evaluation_problem(scenario=None, num_nodes=1, design=None):
-    """A set-up problem of the installed engine (no driver) with the scenario applied.
+    """Return a set-up problem of the installed engine (no driver) with the scenario applied.
 
     Parameters
     ----------

@@ -47,7 +47,7 @@ class BackOffSLSQPDriver(om.ScipyOptimizeDriver):
 
 
 def pyoptsparse_available():
-    """True when pyoptsparse imports (it is not on PyPI; see README for how to get it)."""
+    """Return True when pyoptsparse imports (it is not on PyPI; see README for how to get it)."""
     try:
         import pyoptsparse  # noqa: F401
     except ImportError:

@@ -4,6 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.validation import check_range
+from bypassopt.validation import check_positive_option as _check_positive
 
 # Constants of ISO 2533:1975 (identical to ICAO Doc 7488/3 and US Standard Atmosphere 1976 below
 # 20 km); values as tabulated in field-reference section 1.2.
@@ -38,12 +39,6 @@ tabulates the rounded value 22632.1 Pa)."""
 
 DT_ISA_MAX = 60.0
 """Largest accepted magnitude of the temperature offset from standard, K."""
-
-
-def _check_positive(name, value):
-    """Reject a non-positive num_nodes."""
-    if value < 1:
-        raise ValueError(f"Option '{name}' must be a positive integer, got {value}.")
 
 
 class AtmosphereComp(om.ExplicitComponent):

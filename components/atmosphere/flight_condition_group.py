@@ -2,15 +2,11 @@
 
 import openmdao.api as om
 
+from bypassopt.validation import check_positive_option as _check_positive
+
 from bypassopt.components.atmosphere.atmosphere_comp import AtmosphereComp
 from bypassopt.components.atmosphere.flight_condition_comp import FlightConditionComp, _check_gas
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
-
-
-def _check_positive(name, value):
-    """Reject a non-positive num_nodes."""
-    if value < 1:
-        raise ValueError(f"Option '{name}' must be a positive integer, got {value}.")
 
 
 class FlightConditionGroup(om.Group):

@@ -5,6 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.gas.thermo import DRY_AIR_FAR, CaloricallyPerfectGas, ThermallyPerfectGas
 from bypassopt.validation import InputRangeError, check_range
+from bypassopt.validation import check_positive_option as _check_positive, check_gas_option as _check_gas
 
 TT4_RANGE = (1000.0, 2400.0)
 """Accepted burner exit temperatures with a thermally perfect gas, K (upper end: dissociation)."""
@@ -12,20 +13,6 @@ DPQP_MAX = 0.2
 """Largest accepted burner total-pressure loss fraction, -."""
 LHV_RANGE = (1.0e7, 1.5e8)
 """Accepted fuel lower heating values, J/kg (kerosene 43 MJ/kg; hydrogen about 120 MJ/kg)."""
-
-
-def _check_positive(name, value):
-    """Reject a non-positive num_nodes."""
-    if value < 1:
-        raise ValueError(f"Option '{name}' must be a positive integer, got {value}.")
-
-
-def _check_gas(name, value):
-    """Require an object with the gas-model interface of ``bypassopt.components.gas.thermo``."""
-    for method in ("properties", "fuel_enthalpy_change", "check_temperature"):
-        if not callable(getattr(value, method, None)):
-            raise TypeError(f"Option '{name}' must be a gas model from bypassopt.components.gas.thermo "
-                            f"(it lacks '{method}'); got {value!r}.")
 
 
 def _first_bad(mask):

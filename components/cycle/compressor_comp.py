@@ -6,6 +6,7 @@ import openmdao.api as om
 from bypassopt.components.gas.processes import polytropic_compression
 from bypassopt.components.gas.thermo import DRY_AIR_FAR, ThermallyPerfectGas
 from bypassopt.validation import InputRangeError, check_range
+from bypassopt.validation import check_positive_option as _check_positive, check_gas_option as _check_gas
 
 PR_MAX = 100.0
 """Highest accepted compressor pressure ratio and OPR, -."""
@@ -13,20 +14,6 @@ EFF_POLY_MIN = 0.5
 """Lowest accepted polytropic efficiency (below it the input is almost certainly a mistake), -."""
 EFF_POLY_MAX = 1.0
 """Highest accepted polytropic efficiency (isentropic), -."""
-
-
-def _check_positive(name, value):
-    """Reject a non-positive num_nodes."""
-    if value < 1:
-        raise ValueError(f"Option '{name}' must be a positive integer, got {value}.")
-
-
-def _check_gas(name, value):
-    """Require an object with the gas-model interface of ``bypassopt.components.gas.thermo``."""
-    for method in ("properties", "T_from_phi", "check_temperature"):
-        if not callable(getattr(value, method, None)):
-            raise TypeError(f"Option '{name}' must be a gas model from bypassopt.components.gas.thermo "
-                            f"(it lacks '{method}'); got {value!r}.")
 
 
 def _check_eff(name, value):

@@ -5,6 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.validation import InputRangeError, check_range
+from bypassopt.validation import check_positive_option as _check_positive, check_gas_option as _check_gas
 
 SMOOTHING = 1e-4
 r"""Square of the width of the smooth non-negative part, :math:`x_+ = (x + \sqrt{x^2 + 10^{-4}})/2`, -."""
@@ -20,20 +21,6 @@ COOLING_CONSTANT_MAX = 0.5
 """Largest accepted cooling constant K per row, -."""
 ROTOR_TEMPERATURE_RATIO_RANGE = (0.7, 1.0)
 """Accepted ratio of rotor-relative to absolute total temperature, -."""
-
-
-def _check_positive(name, value):
-    """Reject a non-positive num_nodes."""
-    if value < 1:
-        raise ValueError(f"Option '{name}' must be a positive integer, got {value}.")
-
-
-def _check_gas(name, value):
-    """Require an object with the gas-model interface of ``bypassopt.components.gas.thermo``."""
-    for method in ("properties", "T_from_phi", "check_temperature"):
-        if not callable(getattr(value, method, None)):
-            raise TypeError(f"Option '{name}' must be a gas model from bypassopt.components.gas.thermo "
-                            f"(it lacks '{method}'); got {value!r}.")
 
 
 class CoolingBleedComp(om.ExplicitComponent):

@@ -124,7 +124,7 @@ class TurbofanCycleGroup(om.Group):
         self.set_input_defaults("fuel_LHV", 43.0e6 * ones, units="J/kg")
 
         if self.options["solve_sizing"] or self.options["turbine_temperature_input"] == "T41":
-            newton = self.nonlinear_solver = om.NewtonSolver(solve_subsystems=True, max_sub_solves=100, maxiter=30, iprint=-1,
-                                                             atol=1e-8, rtol=1e-10, err_on_non_converge=True)
+            newton = self.nonlinear_solver = om.NewtonSolver(solve_subsystems=True, max_sub_solves=100, maxiter=30,
+                                                             iprint=-1, atol=1e-8, rtol=1e-10, err_on_non_converge=True)
             newton.linesearch = om.BoundsEnforceLS(bound_enforcement="scalar", iprint=-1)
             self.linear_solver = om.DirectSolver()

@@ -5,25 +5,12 @@ import openmdao.api as om
 
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.validation import check_range
+from bypassopt.validation import check_positive_option as _check_positive, check_gas_option as _check_gas
 
 RECOVERY_MIN = 0.8
 """Lowest accepted intake total-pressure recovery, -."""
 RECOVERY_MAX = 1.0
 """Highest accepted intake total-pressure recovery (no loss), -."""
-
-
-def _check_positive(name, value):
-    """Reject a non-positive num_nodes."""
-    if value < 1:
-        raise ValueError(f"Option '{name}' must be a positive integer, got {value}.")
-
-
-def _check_gas(name, value):
-    """Require an object with the gas-model interface of ``bypassopt.components.gas.thermo``."""
-    for method in ("properties", "T_from_phi", "check_temperature"):
-        if not callable(getattr(value, method, None)):
-            raise TypeError(f"Option '{name}' must be a gas model from bypassopt.components.gas.thermo "
-                            f"(it lacks '{method}'); got {value!r}.")
 
 
 class InletComp(om.ExplicitComponent):

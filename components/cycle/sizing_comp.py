@@ -44,7 +44,8 @@ class SizingComp(om.ExplicitComponent):
         self.add_output("W2", val=100.0 * ones, units="kg/s", lower=1e-3, desc="engine inlet air mass flow")
         self.add_output("fuel_flow", val=0.3 * ones, units="kg/s", desc="fuel mass flow")
         self.add_output("W2_corrected", val=300.0 * ones, units="kg/s", desc="fan-face corrected flow")
-        self.add_output("W25_corrected", val=30.0 * ones, units="kg/s", desc="core (booster exit / HPC entry) corrected flow")
+        self.add_output("W25_corrected", val=30.0 * ones, units="kg/s",
+                        desc="core (booster exit / HPC entry) corrected flow")
         self.add_output("W3_corrected", val=3.0 * ones, units="kg/s",
                         desc="HPC exit corrected flow, a measure of core size")
         self.add_output("HP_shaft_power", val=2.0e6 * ones, units="W", desc="HP spool shaft power demand")

@@ -4,17 +4,12 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.validation import InputRangeError, check_range
+from bypassopt.validation import check_positive_option as _check_positive
 
 BPR_MAX = 30.0
 """Highest accepted bypass ratio, -."""
 POWER_OFFTAKE_MAX = 2.0e6
 """Highest accepted aircraft-systems shaft power offtake from the HP spool, W."""
-
-
-def _check_positive(name, value):
-    """Reject a non-positive num_nodes."""
-    if value < 1:
-        raise ValueError(f"Option '{name}' must be a positive integer, got {value}.")
 
 
 class SpoolPowerComp(om.ExplicitComponent):

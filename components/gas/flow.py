@@ -28,7 +28,7 @@ def _static_residual(gas, ht, Ts, Mach, far):
 
 
 def static_from_total(gas, Tt, Pt, Mach, far):
-    """Static state of an isentropic stream at Mach number ``Mach`` from its total state.
+    """Return the static state of an isentropic stream at Mach number ``Mach`` from its total state.
 
     Solves h(Tt) = h(Ts) + V^2/2 with V = Mach*sqrt(gamma(Ts) R Ts) for Ts by Newton iteration, then
     Ps = Pt exp((phi(Ts) - phi(Tt))/R). With a calorically perfect gas this reduces to the
