@@ -1,5 +1,6 @@
 """Installed engine: cycle sized to the airframe's thrust plus its own nacelle drag, mass, clearance, mission fuel."""
 
+import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
@@ -65,7 +66,7 @@ class InstalledEngineGroup(om.Group):
         if self.options["include_mission"]:
             self.add_subsystem("mission", MissionFuelComp(num_nodes=nn, num_engines=self.options["num_engines"]),
                                promotes_inputs=["*", ("cruise_speed", "V0")], promotes_outputs=["*"])
-        self.set_input_defaults("Mach0", 0.78)
+        self.set_input_defaults("Mach0", 0.78 * np.ones(nn))
 
         newton = self.nonlinear_solver = om.NewtonSolver(solve_subsystems=True, max_sub_solves=100, maxiter=40,
                                                          iprint=-1, atol=1e-8, rtol=1e-10, err_on_non_converge=True)
