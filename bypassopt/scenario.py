@@ -189,7 +189,8 @@ def _fmt_range(spec):
 
 def _check_number(where, value, spec):
     if isinstance(value, bool) or not isinstance(value, (int, float)):
-        raise ScenarioError(f"{where} = {value!r} must be a number ({spec['desc']}).")
+        raise ScenarioError(f"{where} = {value!r} must be a number in the range {_fmt_range(spec)} "
+                            f"({spec['desc']}).")
     value = float(value)
     lo, hi = spec["lo"], spec["hi"]
     bad = (not math.isfinite(value) or (value <= lo if spec.get("lo_open") else value < lo)

@@ -102,16 +102,13 @@ def kkt_analysis(prob, active_tol=ACTIVE_TOL):
 
 
 def _total(prob, totals, of, wrt, units):
-    """d(of)/d(wrt) from the flat totals, converted to ``units`` of ``of`` (wrt in its model units)."""
-    from openmdao.utils.units import convert_units
+    """d(of)/d(wrt) from the flat totals.
 
-    key = (of, wrt)
-    d = float(np.squeeze(totals[key]))
-    model_units = prob.model.get_io_metadata(includes=of, metadata_keys=["units"], return_rel_names=False)
-    mu = next((m["units"] for k, m in model_units.items() if k.endswith(of.split(".")[-1])), None)
-    if units and mu and units != mu:
-        d = convert_units(d, mu, units) - convert_units(0.0, mu, units)
-    return d
+    ``compute_totals`` on a driver's responses returns derivatives in the units given to
+    ``add_objective``/``add_constraint``/``add_design_var`` (also with ``driver_scaling=False``), which are
+    the units this module reads values in, so no conversion is needed.
+    """
+    return float(np.squeeze(totals[(of, wrt)]))
 
 
 def _constraint_ref(prob, name):

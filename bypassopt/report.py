@@ -1,0 +1,636 @@
+"""Results of a bypassopt problem: key quantities, station table, optimum with shadow prices, text and files.
+
+Every summary carries ``bypassopt.CAUTION``. The writers (``write_json``, ``write_csv``, ``write_text``)
+serialise first and then replace the target file in one step (temporary file + ``os.replace``), so a
+failure never leaves a half-written file behind.
+"""
+
+import csv
+import io
+import json
+import math
+import os
+import tempfile
+import textwrap
+
+import numpy as np
+
+from bypassopt import CAUTION, __version__
+
+#: Key quantities of a design: (model variable, units shown, description, group).
+QUANTITIES = (
+    ("BPR", None, "bypass ratio", "cycle"),
+    ("FPR", None, "fan pressure ratio", "cycle"),
+    ("OPR", None, "overall pressure ratio Pt3/Pt2", "cycle"),
+    ("Tt4", "K", "burner exit temperature T4", "cycle"),
+    ("installed_TSFC", "mg/(N*s)", "installed TSFC (nacelle drag charged to the engine)", "performance"),
+    ("TSFC", "mg/(N*s)", "uninstalled TSFC", "performance"),
+    ("Fn_specific", "N*s/kg", "specific thrust (net thrust per unit inlet flow)", "performance"),
+    ("installed_thrust", "N", "installed net thrust per engine", "performance"),
+    ("Fn_required", "N", "net thrust the cycle delivers (need plus nacelle drag)", "performance"),
+    ("W2", "kg/s", "inlet air flow", "performance"),
+    ("fuel_flow", "kg/s", "fuel flow", "performance"),
+    ("jet_velocity_ratio", None, "bypass / core jet velocity ratio", "performance"),
+    ("thermal_efficiency", None, "thermal efficiency", "performance"),
+    ("propulsive_efficiency", None, "propulsive efficiency", "performance"),
+    ("overall_efficiency", None, "overall efficiency", "performance"),
+    ("mission_fuel", "kg", "mission fuel (trip plus reserve)", "aircraft"),
+    ("takeoff_mass", "kg", "take-off mass", "aircraft"),
+    ("mtow_margin", "kg", "maximum take-off mass minus take-off mass", "aircraft"),
+    ("powerplant_mass", "kg", "powerplant mass per engine (engine + nacelle)", "mass"),
+    ("engine_dry_mass", "kg", "dry engine mass", "mass"),
+    ("nacelle_mass", "kg", "nacelle and pylon mass", "mass"),
+    ("nacelle_drag", "N", "nacelle drag per engine", "drag"),
+    ("fan_cowl_drag", "N", "  fan cowl", "drag"),
+    ("core_cowl_drag", "N", "  core cowl", "drag"),
+    ("plug_drag", "N", "  plug", "drag"),
+    ("pylon_drag", "N", "  pylon", "drag"),
+    ("fan_tip_diameter", "m", "fan tip diameter", "size"),
+    ("nacelle_max_diameter", "m", "largest nacelle diameter", "size"),
+    ("ground_clearance", "m", "nacelle ground clearance", "size"),
+    ("clearance_margin", "m", "ground clearance minus the minimum", "size"),
+    ("diameter_margin", "m", "nacelle diameter limit minus the diameter", "size"),
+    ("fan_tip_speed", "m/s", "fan tip speed", "fan"),
+    ("fan_tip_relative_mach", None, "fan tip relative Mach number", "fan"),
+    ("Tt3", "K", "HPC exit temperature T3", "limits"),
+    ("Tt41", "K", "HPT rotor inlet temperature T41", "limits"),
+    ("W3_corrected", "kg/s", "HPC exit corrected flow (core size)", "limits"),
+)
+
+GROUP_TITLES = {
+    "cycle": "Cycle", "performance": "Performance at the design point", "aircraft": "Aircraft mission",
+    "mass": "Mass", "drag": "Nacelle drag", "size": "Size and installation", "fan": "Fan",
+    "limits": "Temperatures and core size",
+}
+
+#: Stations of the table: (station, where it is).
+STATIONS = (
+    ("0", "free stream"),
+    ("2", "fan face"),
+    ("13", "fan exit, bypass side"),
+    ("21", "fan exit, core side"),
+    ("25", "booster exit / HPC entry"),
+    ("3", "HPC exit"),
+    ("4", "burner exit"),
+    ("41", "HPT rotor entry (after vane coolant)"),
+    ("44", "HPT exit"),
+    ("45", "LPT entry (after rotor coolant)"),
+    ("5", "LPT exit"),
+    ("7", "core nozzle entry"),
+    ("8", "core nozzle throat"),
+    ("17", "bypass nozzle entry"),
+    ("18", "bypass nozzle throat"),
+)
+
+#: Plain-words phrase and step for each constraint's shadow price: name -> (step, step words, phrase).
+#: Lengths per cm, temperatures per K, core size per 0.1 kg/s.
+CONSTRAINT_WORDS = {
+    "clearance_margin": ("nacelle ground-clearance margin", 0.01, "1 cm",
+                         "relaxing the nacelle ground-clearance margin by 1 cm"),
+    "diameter_margin": ("nacelle diameter limit", 0.01, "1 cm",
+                        "allowing a 1 cm larger nacelle diameter"),
+    "Tt41": ("T41 limit", 1.0, "1 K", "raising the T41 limit by 1 K"),
+    "Tt3": ("T3 limit", 1.0, "1 K", "raising the T3 limit by 1 K"),
+    "W3_corrected": ("minimum core size", 0.1, "0.1 kg/s", "lowering the minimum core size by 0.1 kg/s"),
+}
+
+#: Steps for the shadow prices of design-variable bounds.
+BOUND_STEPS = {"BPR": (0.1, "0.1"), "FPR": (0.01, "0.01"), "OPR": (1.0, "1"), "Tt4": (1.0, "1 K")}
+
+OBJECTIVE_WORDS = {"mission_fuel": "of mission fuel", "installed_TSFC": "of installed TSFC"}
+
+
+def _value(prob, name, units=None, node=0):
+    val = np.asarray(prob.get_val(name, units=units)).ravel()
+    return float(np.real(val[node]))
+
+
+def _has(prob, name):
+    try:
+        prob.get_val(name)
+    except (KeyError, RuntimeError):
+        return False
+    return True
+
+
+def design_summary(prob, node=0):
+    """Key quantities and the station table of the current point of an installed-engine problem.
+
+    Parameters
+    ----------
+    prob : om.Problem
+        A run problem built by ``bypassopt.problems.best_cycle`` (or any with an ``InstalledEngineGroup``
+        promoted at the top).
+    node : int
+        Which design of a vectorized problem.
+
+    Returns
+    -------
+    dict
+        ``caution``, ``tool``, ``scenario`` (name or None), ``quantities`` {name: {value, units,
+        description, group}} and ``stations`` (rows of ``station_table``).
+    """
+    scenario = getattr(prob, "bypassopt_scenario", None)
+    quantities = {}
+    for name, units, desc, group in QUANTITIES:
+        if _has(prob, name):
+            quantities[name] = {"value": _value(prob, name, units, node), "units": units, "description": desc,
+                                "group": group}
+    summary = {
+        "caution": CAUTION,
+        "tool": f"bypassopt {__version__}",
+        "scenario": scenario["aircraft"].get("name") if scenario else None,
+        "quantities": quantities,
+        "stations": station_table(prob, node),
+    }
+    if scenario:
+        summary["limits"] = design_limits(prob, scenario, node)
+    return summary
+
+
+def design_limits(prob, scenario, node=0):
+    """Compare the current design with the scenario's limits.
+
+    Returns
+    -------
+    dict
+        {output: {description, kind, value, limit, units, margin, met}}; margin >= 0 meets the limit.
+    """
+    from bypassopt.scenario import CONSTRAINT_LIMITS
+
+    checks = [("clearance_margin", "lower", 0.0, "m"), ("diameter_margin", "lower", 0.0, "m")]
+    checks += [(var, kind, scenario["limits"][key], None) for key, (var, kind, _) in CONSTRAINT_LIMITS.items()]
+    units = {"Tt41": "K", "Tt3": "K", "W3_corrected": "kg/s"}
+    out = {}
+    for name, kind, limit, u in checks:
+        u = u or units[name]
+        value = _value(prob, name, u, node)
+        margin = value - limit if kind == "lower" else limit - value
+        out[name] = {"description": CONSTRAINT_WORDS[name][0], "kind": kind, "value": value, "limit": float(limit),
+                     "units": u, "margin": margin, "met": bool(margin >= -1e-9)}
+    return out
+
+
+def station_table(prob, node=0):
+    """Rows per station: total temperature (K), total pressure (kPa), fuel-air ratio and flow (kg/s).
+
+    Flows are W2 times the per-unit-inlet-flow fractions of the cycle: bypass W2*BPR/(1+BPR), core
+    W2/(1+BPR) up to the HPC exit (before the cooling and customer-bleed extractions), then the
+    ``W*_frac`` outputs (with fuel). The fuel-air ratio is given for the core gas downstream of the
+    burner and left empty for air. The nozzle throats carry the total state of their nozzle entry
+    (the nozzle losses are in its velocity coefficient); their static pressure and Mach number are
+    given too, as they are for the free stream.
+    """
+    v = lambda name, units=None: _value(prob, name, units, node)  # noqa: E731
+    w2, bpr = v("W2", "kg/s"), v("BPR")
+    core, bypass = w2 / (1.0 + bpr), w2 * bpr / (1.0 + bpr)
+    source = {"7": "7", "8": "7", "17": "17", "18": "17"}
+    flow = {"0": w2, "2": w2, "13": bypass, "17": bypass, "18": bypass, "21": core, "25": core, "3": core}
+    for st in ("4", "41", "44", "45", "5"):
+        flow[st] = w2 * v(f"W{st}_frac")
+    flow["7"] = flow["8"] = w2 * v("W5_frac")
+    far = {st: v(f"FAR{st}") for st in ("4", "41", "44", "45", "5")}
+    far["7"] = far["8"] = far["5"]
+    statics = {"0": ("Ps0", "Mach0"), "8": ("Ps8", "MN8"), "18": ("Ps18", "MN18")}
+    rows = []
+    for st, where in STATIONS:
+        src = source.get(st, st)
+        row = {"station": st, "location": where, "Tt_K": v(f"Tt{src}", "K"), "Pt_kPa": v(f"Pt{src}", "kPa"),
+               "FAR": far.get(st), "W_kg_s": flow.get(st), "Ps_kPa": None, "Mach": None}
+        if st in statics:
+            row["Ps_kPa"] = v(statics[st][0], "kPa")
+            row["Mach"] = v(statics[st][1])
+        rows.append(row)
+    return rows
+
+
+def settle_at_optimum(prob):
+    """Leave a problem run by SciPy's optimizer evaluated at the point the optimizer returned.
+
+    ``ScipyOptimizeDriver`` leaves the model at its last evaluation, which after a line-search back-off
+    (or a failed evaluation) is not the returned point. Sets the returned design variables and re-runs
+    the model when they differ. Returns True when it re-ran (the caller may then record the case).
+    """
+    result = getattr(prob.driver, "_scipy_optimize_result", None)
+    if result is None or getattr(result, "x", None) is None:
+        return False
+    x = np.asarray(result.x, dtype=float).ravel()
+    updates, i = {}, 0
+    for name, meta in prob.model.get_design_vars(recurse=True, use_prom_ivc=True).items():
+        size = int(meta["size"])
+        scaler = meta.get("total_scaler")
+        adder = meta.get("total_adder")
+        value = x[i:i + size] / (1.0 if scaler is None else scaler) - (0.0 if adder is None else adder)
+        i += size
+        current = np.ravel(prob.get_val(name, units=meta["units"]))
+        if not np.allclose(current, value, rtol=1e-15, atol=0.0):
+            updates[name] = (value, meta["units"])
+    if not updates:
+        return False
+    for name, (value, units) in updates.items():
+        prob.set_val(name, value, units=units)
+    prob.run_model()
+    return True
+
+
+def _driver_message(driver):
+    res = getattr(driver, "_scipy_optimize_result", None)
+    if res is not None and getattr(res, "message", None) is not None:
+        return str(res.message)
+    sol = getattr(driver, "pyopt_solution", None)
+    inform = getattr(sol, "optInform", None) if sol is not None else None
+    if isinstance(inform, dict) and inform.get("text"):
+        return str(inform["text"])
+    return ""
+
+
+def _driver_name(driver):
+    opt = driver.options["optimizer"] if "optimizer" in driver.options else None
+    kind = type(driver).__name__
+    if kind == "BackOffSLSQPDriver":
+        return "SciPy SLSQP with back-off"
+    if kind == "pyOptSparseDriver":
+        return f"{opt} (pyoptsparse)"
+    return f"{opt} ({kind})" if opt else kind
+
+
+def _saving_words(saving, objective, obj_units):
+    what = OBJECTIVE_WORDS.get(objective, f"of {objective}")
+    if saving == 0.0:
+        return f"would not change the optimum {what.removeprefix('of ')} (to first order)"
+    verb = "save" if saving > 0 else "cost"
+    return f"would {verb} {format_number(abs(saving), 3)} {obj_units} {what}"
+
+
+def optimum_summary(prob, driver_result):
+    """``design_summary`` plus the optimizer's record, constraints with shadow prices and KKT residuals.
+
+    Parameters
+    ----------
+    prob : om.Problem
+        A best-cycle problem (``build_best_cycle_problem``) after ``run_driver``.
+    driver_result : openmdao DriverResult
+        What ``prob.run_driver()`` returned.
+
+    Returns
+    -------
+    dict
+        The design summary with ``optimizer`` (success, message, exit status, counts), ``objective``,
+        ``constraints`` (value, limit, margin, active, multiplier, shadow price with units, and a
+        plain-words sentence for each active one), ``bounds`` of the design variables and ``kkt``
+        (projected gradient, complementarity, multiplier signs).
+    """
+    from bypassopt.problems.kkt import kkt_analysis
+
+    summary = design_summary(prob)
+    driver = prob.driver
+    summary["optimizer"] = {
+        "driver": _driver_name(driver),
+        "success": bool(driver_result.success),
+        "exit_status": str(getattr(driver_result, "exit_status", "")),
+        "message": _driver_message(driver),
+        "iterations": int(driver_result.iter_count),
+        "model_evaluations": int(driver_result.model_evals),
+        "derivative_evaluations": int(driver_result.deriv_evals),
+        "failed_evaluations": int(getattr(driver, "failed_evaluations", 0)),
+        "runtime_s": float(getattr(driver_result, "runtime", 0.0)),
+    }
+    kkt = kkt_analysis(prob)
+    objective = kkt["objective"]["name"]
+    obj_units = kkt["objective"]["units"]
+    summary["objective"] = kkt["objective"]
+    constraints, statements = {}, []
+    for name, c in kkt["constraints"].items():
+        label, step, step_words, phrase = CONSTRAINT_WORDS.get(name, (name, 1.0, "1 unit", f"relaxing {name}"))
+        margin = c["limit"] - c["value"] if c["kind"] == "upper" else c["value"] - c["limit"]
+        entry = {"description": label, "kind": c["kind"], "value": c["value"], "limit": c["limit"],
+                 "units": c["units"], "margin": margin, "active": c["active"], "multiplier": c["multiplier"],
+                 "shadow_price": c["shadow_price"],
+                 "shadow_price_units": f"{obj_units} per {c['units'] or 'unit'}",
+                 "statement": None}
+        if c["active"]:
+            entry["statement"] = f"{phrase} {_saving_words(c['multiplier'] * step, objective, obj_units)}."
+            statements.append(entry["statement"])
+        constraints[name] = entry
+    bounds = {}
+    for name, b in kkt["bounds"].items():
+        entry = dict(b)
+        entry["statement"] = None
+        if b["active"]:
+            step, step_words = BOUND_STEPS.get(name, (1.0, "1"))
+            move = "raising the upper" if b["active"] == "upper" else "lowering the lower"
+            entry["statement"] = (f"{move} bound of {name} by {step_words} "
+                                  f"{_saving_words(b['multiplier'] * step, objective, obj_units)}.")
+            statements.append(entry["statement"])
+        bounds[name] = entry
+    summary["constraints"] = constraints
+    summary["fixed_design_variables"] = {
+        var: {"value": summary["quantities"][var]["value"], "units": summary["quantities"][var]["units"]}
+        for var in ("BPR", "FPR", "OPR", "Tt4") if var not in bounds and var in summary["quantities"]}
+    summary["bounds"] = bounds
+    summary["shadow_price_statements"] = statements
+    summary["kkt"] = {"projected_gradient": kkt["projected_gradient"], "complementarity": kkt["complementarity"],
+                      "multipliers_nonnegative": kkt["dual_feasible"], "gradient_norm": kkt["gradient_norm"]}
+    return summary
+
+
+def summary_rows(summary):
+    """One row per quantity of a summary, ``{name, value, units}``, for a CSV file."""
+    rows = [{"name": name, "value": q["value"], "units": q["units"] or ""}
+            for name, q in summary.get("quantities", {}).items()]
+    opt = summary.get("optimizer")
+    if opt:
+        for key in ("success", "iterations", "model_evaluations", "derivative_evaluations",
+                    "failed_evaluations"):
+            rows.append({"name": f"optimizer_{key}", "value": opt[key], "units": ""})
+    if "objective" in summary:
+        obj = summary["objective"]
+        rows.append({"name": f"objective_{obj['name']}", "value": obj["value"], "units": obj["units"]})
+    for name, c in summary.get("constraints", {}).items():
+        rows.append({"name": f"{name}_limit", "value": c["limit"], "units": c["units"] or ""})
+        rows.append({"name": f"{name}_margin", "value": c["margin"], "units": c["units"] or ""})
+        rows.append({"name": f"{name}_shadow_price", "value": c["shadow_price"], "units": c["shadow_price_units"]})
+    for key in ("projected_gradient", "complementarity"):
+        if "kkt" in summary:
+            rows.append({"name": f"kkt_{key}", "value": summary["kkt"][key], "units": ""})
+    return rows
+
+
+# ---------------------------------------------------------------------------------------------------------
+# Text
+
+
+def format_number(x, digits=5):
+    """Format a number plainly: about ``digits`` significant figures, trailing zeros dropped.
+
+    No exponent for everyday magnitudes (1e-3 to 1e7); magnitudes below 1e-9 print as 0.
+    """
+    if x is None:
+        return ""
+    if isinstance(x, (bool, np.bool_)):
+        return "yes" if x else "no"
+    if isinstance(x, (int, np.integer)):
+        return str(int(x))
+    x = float(x)
+    if not math.isfinite(x):
+        return str(x)
+    mag = abs(x)
+    if mag < 1e-9:  # below the model's convergence tolerance in every unit shown: print as zero
+        return "0"
+    if mag >= 1e7 or mag < 1e-3:
+        return f"{x:.{max(digits - 3, 1)}e}"
+    decimals = max(digits - 1 - int(math.floor(math.log10(mag))), 1)  # 15859.6 kg, not 15860
+    text = f"{x:.{decimals}f}"
+    if "." in text:
+        text = text.rstrip("0").rstrip(".")
+    return text
+
+
+def _plural(n, word):
+    return f"{n} {word}" if n == 1 else f"{n} {word}s"
+
+
+def text_table(headers, rows, align):
+    """Aligned text table; ``align`` is a string of 'l'/'r' per column."""
+    cells = [[str(c) for c in row] for row in rows]
+    widths = [max([len(h)] + [len(r[i]) for r in cells]) for i, h in enumerate(headers)]
+
+    def line(items):
+        parts = [s.ljust(w) if a == "l" else s.rjust(w) for s, w, a in zip(items, widths, align)]
+        return ("  " + "  ".join(parts)).rstrip()
+
+    out = [line(headers), ("  " + "  ".join("-" * w for w in widths)).rstrip()]
+    out += [line(r) for r in cells]
+    return out
+
+
+def _wrap(text, indent=""):
+    return textwrap.fill(text, width=100, initial_indent=indent, subsequent_indent=indent)
+
+
+def format_summary(summary):
+    """Readable terminal report of a design or optimum summary (plain words, aligned columns)."""
+    out = []
+    title = "bypassopt: best installed cycle" if "optimizer" in summary else "bypassopt: design evaluation"
+    out.append(title)
+    out.append("=" * len(title))
+    if summary.get("scenario"):
+        out.append(f"Scenario: {summary['scenario']}")
+    out.append(_wrap("CAUTION: " + summary.get("caution", CAUTION)))
+    out.append("")
+
+    opt = summary.get("optimizer")
+    if opt:
+        state = "converged" if opt["success"] else "DID NOT CONVERGE"
+        out.append(f"Optimizer: {opt['driver']}, {state}")
+        if opt.get("message"):
+            out.append(f"  message: {opt['message']}")
+        out.append(f"  {_plural(opt['iterations'], 'iteration')}, "
+                   f"{_plural(opt['model_evaluations'], 'model evaluation')}, "
+                   f"{_plural(opt['derivative_evaluations'], 'derivative evaluation')}, "
+                   f"{_plural(opt['failed_evaluations'], 'failed evaluation')}, {opt['runtime_s']:.1f} s")
+        obj = summary["objective"]
+        words = next((d for n, _, d, _ in QUANTITIES if n == obj["name"]), obj["name"])
+        out.append(f"  objective (minimised): {words} = {format_number(obj['value'], 6)} {obj['units']}")
+        out.append("")
+
+    rows, group = [], None
+    for name, q in summary["quantities"].items():
+        if q["group"] != group:
+            group = q["group"]
+            if rows:
+                rows.append(("", "", "", ""))
+            rows.append((GROUP_TITLES.get(group, group) + ":", "", "", ""))
+        rows.append(("  " + q["description"], format_number(q["value"]), q["units"] or "", name))
+    out.append("Design")
+    out += text_table(("quantity", "value", "units", "variable"), rows, "lrll")
+    out.append("")
+
+    if not opt and summary.get("limits"):
+        out.append("Limits")
+        rows = []
+        for name, c in summary["limits"].items():
+            words, value, sense, limit = _shown_limit(summary, name, c)
+            rows.append((words, format_number(value), f"{sense} {format_number(limit)}",
+                         format_number(c["margin"]), c["units"], "met" if c["met"] else "BROKEN"))
+        out += text_table(("limit", "value", "limit", "margin", "units", ""), rows, "lrrrll")
+        out.append("")
+
+    if opt:
+        out.append("Limits")
+        rows = []
+        for name, c in summary["constraints"].items():
+            words, value, sense, limit = _shown_limit(summary, name, c)
+            rows.append((words, format_number(value), f"{sense} {format_number(limit)}",
+                         format_number(c["margin"]), c["units"] or "", "active" if c["active"] else "",
+                         format_number(c["shadow_price"], 4) if c["active"] else "", c["shadow_price_units"]
+                         if c["active"] else ""))
+        out += text_table(("limit", "value", "limit", "margin", "units", "", "shadow price", "per"), rows,
+                      "lrrrllrl")
+        bound_rows = [(name, format_number(b["value"]), format_number(b["lower"]), format_number(b["upper"]),
+                       f"at {b['active']} bound" if b["active"] else "free")
+                      for name, b in summary["bounds"].items()]
+        out.append("")
+        out.append("Design-variable bounds")
+        out += text_table(("variable", "value", "lower", "upper", "status"), bound_rows, "lrrrl")
+        fixed = summary.get("fixed_design_variables") or {}
+        if fixed:
+            out.append("  held fixed by the scenario: " + ", ".join(
+                f"{n} = {format_number(v['value'])}{' ' + v['units'] if v['units'] else ''}" for n, v in fixed.items()))
+        out.append("")
+        out.append("What the active limits cost (first-order estimates from the Lagrange multipliers)")
+        if summary["shadow_price_statements"]:
+            for s in summary["shadow_price_statements"]:
+                out.append(_wrap_bullet(s[0].upper() + s[1:]))
+        else:
+            out.append("  - no limit or bound is active: the optimum is unconstrained.")
+        k = summary["kkt"]
+        out.append("")
+        out.append(f"Optimality check: projected gradient {format_number(k['projected_gradient'], 2)}, "
+                   f"complementarity {format_number(k['complementarity'], 2)}, multipliers of the right sign: "
+                   f"{'yes' if k['multipliers_nonnegative'] else 'NO'}")
+        out.append("")
+
+    mtow = summary["quantities"].get("mtow_margin")
+    if mtow and mtow["value"] < 0.0:
+        out.append(_wrap(f"Note: the take-off mass is {format_number(-mtow['value'])} kg above the maximum take-off "
+                         "mass; this is reported, not a limit of the optimisation."))
+        out.append("")
+    out.append("Stations")
+    fixed = lambda x, fmt: "" if x is None else format(x, fmt)  # noqa: E731
+    rows = [(r["station"], r["location"], fixed(r["Tt_K"], ".1f"), fixed(r["Pt_kPa"], ".2f"),
+             fixed(r["FAR"], ".5f"), fixed(r["W_kg_s"], ".3f"), fixed(r["Ps_kPa"], ".2f"),
+             fixed(r["Mach"], ".3f")) for r in summary["stations"]]
+    out += text_table(("station", "where", "Tt K", "Pt kPa", "fuel/air", "flow kg/s", "Ps kPa", "Mach"), rows,
+                  "llrrrrrr")
+    return "\n".join(out) + "\n"
+
+
+#: How a limit reads in the text tables: output -> (words, quantity shown instead of a margin, its sense).
+_SHOWN = {
+    "clearance_margin": ("nacelle ground clearance", "ground_clearance", ">="),
+    "diameter_margin": ("nacelle diameter", "nacelle_max_diameter", "<="),
+    "Tt41": ("HPT rotor inlet temperature T41", None, None),
+    "Tt3": ("HPC exit temperature T3", None, None),
+    "W3_corrected": ("core size (HPC exit corrected flow)", None, None),
+}
+
+
+def _shown_limit(summary, name, c):
+    """(words, value, sense, limit) of a limit for the tables: the margins read as the quantity they bound."""
+    words, quantity, sense = _SHOWN.get(name, (c.get("description", name), None, None))
+    q = summary["quantities"].get(quantity) if quantity else None
+    if q is None:
+        return words, c["value"], "<=" if c["kind"] == "upper" else ">=", c["limit"]
+    limit = q["value"] - c["margin"] if sense == ">=" else q["value"] + c["margin"]
+    return words, q["value"], sense, limit
+
+
+def _wrap_bullet(text):
+    lines = textwrap.wrap(text, width=96)
+    return "\n".join(("  - " if i == 0 else "    ") + ln for i, ln in enumerate(lines))
+
+
+# ---------------------------------------------------------------------------------------------------------
+# Files
+
+
+def _json_default(obj):
+    if isinstance(obj, np.ndarray):
+        return obj.tolist()
+    if isinstance(obj, np.bool_):
+        return bool(obj)
+    if isinstance(obj, np.integer):
+        return int(obj)
+    if isinstance(obj, np.floating):
+        return float(obj)
+    if isinstance(obj, os.PathLike):
+        return os.fspath(obj)
+    raise TypeError(f"cannot write a {type(obj).__name__} to JSON")
+
+
+def to_json(obj):
+    """JSON text of a result (numpy values converted; NaN written as null)."""
+    return json.dumps(_finite(obj), indent=2, default=_json_default, allow_nan=False) + "\n"
+
+
+def _finite(obj):
+    """Replace NaN/inf by None so the JSON is standard."""
+    if isinstance(obj, dict):
+        return {k: _finite(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_finite(v) for v in obj]
+    if isinstance(obj, np.ndarray):
+        return _finite(obj.tolist())
+    if isinstance(obj, (float, np.floating)) and not math.isfinite(float(obj)):
+        return None
+    return obj
+
+
+def _file_mode(path):
+    """Permissions for a new file: the existing file's, else what the umask gives an ordinary file."""
+    try:
+        return os.stat(path).st_mode & 0o777
+    except OSError:
+        umask = os.umask(0)
+        os.umask(umask)
+        return 0o666 & ~umask
+
+
+def write_text(path, text):
+    """Write ``text`` to ``path`` atomically (temporary file in the same folder, then ``os.replace``)."""
+    path = os.fspath(path)
+    folder = os.path.dirname(os.path.abspath(path))
+    mode = _file_mode(path)
+    fd, tmp = tempfile.mkstemp(prefix="." + os.path.basename(path) + ".", suffix=".tmp", dir=folder)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as fh:
+            fh.write(text)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.chmod(tmp, mode)
+        os.replace(tmp, path)
+    except BaseException:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+        raise
+    return path
+
+
+def write_json(path, obj):
+    """Write ``obj`` as JSON, atomically: nothing is written if serialisation fails."""
+    return write_text(path, to_json(obj))
+
+
+def write_csv(path, rows):
+    """Write rows atomically: a list of dicts (header from their keys) or of sequences (first row = header).
+
+    None is written as an empty cell; floats with full precision.
+    """
+    buf = io.StringIO()
+    rows = list(rows)
+    if rows and isinstance(rows[0], dict):
+        fields = []
+        for r in rows:
+            fields += [k for k in r if k not in fields]
+        writer = csv.DictWriter(buf, fieldnames=fields, lineterminator="\n")
+        writer.writeheader()
+        for r in rows:
+            writer.writerow({k: _cell(r.get(k)) for k in fields})
+    else:
+        writer = csv.writer(buf, lineterminator="\n")
+        for r in rows:
+            writer.writerow([_cell(c) for c in r])
+    return write_text(path, buf.getvalue())
+
+
+def _cell(value):
+    if value is None:
+        return ""
+    if isinstance(value, (bool, np.bool_)):
+        return str(bool(value)).lower()
+    if isinstance(value, (float, np.floating)):
+        return repr(float(value))
+    if isinstance(value, (int, np.integer, str)):
+        return value
+    raise TypeError(f"cannot write a {type(value).__name__} to a CSV cell")

@@ -1,0 +1,344 @@
+"""The ``bypassopt`` command line end to end: every command in a subprocess on a small demo scenario."""
+
+import csv
+import importlib.util
+import json
+import os
+import subprocess
+import sys
+import tomllib
+from importlib import resources
+
+import openmdao.api as om
+import pytest
+
+from bypassopt import CAUTION
+from bypassopt.cli import main
+from bypassopt.problems.drivers import pyoptsparse_available
+from bypassopt.scenario import demo_scenario, load_scenario
+
+#: The optimum written to optimum.json is the recorder's last driver case.
+RECORD_RTOL = 1e-8
+#: Longest a single command may take (a hung optimizer fails the test instead of the whole run).
+TIMEOUT_S = 300
+PNG_MAGIC = b"\x89PNG\r\n\x1a\n"
+HAVE_MATPLOTLIB = importlib.util.find_spec("matplotlib") is not None
+
+#: The demo with a coarse carpet and a two-point trade, so that the commands run in seconds.
+FAST_SCENARIO = """\
+[carpet]
+BPR_values = [8.0, 10.0, 12.0]
+OPR_values = [35.0, 45.0, 55.0]
+FPR_mode = "fixed"
+
+[trade]
+limit = "max_nacelle_diameter_m"
+values = [2.2, 2.4]
+"""
+
+
+def bypassopt(*args, cwd):
+    """Run ``python -m bypassopt.cli ARGS`` in ``cwd``; returns the CompletedProcess (text)."""
+    return subprocess.run([sys.executable, "-m", "bypassopt.cli", *map(str, args)], cwd=cwd, capture_output=True,
+                          text=True, timeout=TIMEOUT_S)
+
+
+def _read_csv(path):
+    with open(path, newline="", encoding="utf-8") as fh:
+        return list(csv.DictReader(fh))
+
+
+def _assert_png(path):
+    assert path.read_bytes()[:8] == PNG_MAGIC, path
+
+
+def _no_leftovers(folder):
+    """No temporary files of the atomic writers remain."""
+    assert not [p for p in os.listdir(folder) if p.startswith(".")], os.listdir(folder)
+
+
+@pytest.fixture(scope="module")
+def fast_scenario(tmp_path_factory):
+    folder = tmp_path_factory.mktemp("scenario")
+    path = folder / "fast.toml"
+    path.write_text(FAST_SCENARIO, encoding="utf-8")
+    return path
+
+
+@pytest.fixture(scope="module")
+def optimized(tmp_path_factory, fast_scenario):
+    """One ``optimize`` run shared by the tests that read its outputs."""
+    cwd = tmp_path_factory.mktemp("optimize")
+    args = ["optimize", "--scenario", fast_scenario, "--out", "res", "--json"]
+    if not HAVE_MATPLOTLIB:
+        args.append("--no-plots")
+    run = bypassopt(*args, cwd=cwd)
+    return run, cwd / "res"
+
+
+# --------------------------------------------------------------------------------------------------------
+# optimize
+
+
+def test_optimize_outputs(optimized):
+    """Exit 0; every file exists and parses; stdout is one JSON document; the caution travels with it."""
+    run, out = optimized
+    assert run.returncode == 0, run.stderr
+    result = json.loads(run.stdout)
+    assert result["caution"] == CAUTION and result["optimizer"]["success"]
+    names = ["history.sqlite", "optimum.json", "optimum.csv", "stations.csv", "summary.txt"]
+    if HAVE_MATPLOTLIB:
+        names += ["convergence.png", "carpet.png"]
+        _assert_png(out / "convergence.png")
+        _assert_png(out / "carpet.png")
+    assert sorted(os.path.basename(f) for f in result["files"]) == sorted(names)
+    assert sorted(os.listdir(out)) == sorted(names)
+    optimum = json.loads((out / "optimum.json").read_text())
+    assert optimum["quantities"] == result["quantities"]
+    rows = _read_csv(out / "optimum.csv")
+    assert list(rows[0]) == ["name", "value", "units"]
+    values = {r["name"]: r for r in rows}
+    assert values["caution"]["value"] == CAUTION
+    assert float(values["mission_fuel"]["value"]) == optimum["quantities"]["mission_fuel"]["value"]
+    assert values["installed_TSFC"]["units"] == "mg/(N*s)"
+    stations = _read_csv(out / "stations.csv")
+    assert [r["station"] for r in stations][:3] == ["0", "2", "13"] and len(stations) == 15
+    summary = (out / "summary.txt").read_text()
+    assert CAUTION in " ".join(summary.split()) and "would save" in summary
+    _no_leftovers(out)
+
+
+def test_optimize_json_matches_recorder(optimized):
+    """The reported optimum is the recorder's last driver case: design variables and objective."""
+    run, out = optimized
+    assert run.returncode == 0, run.stderr
+    optimum = json.loads((out / "optimum.json").read_text())
+    reader = om.CaseReader(str(out / "history.sqlite"))
+    cases = reader.list_cases("driver", recurse=False, out_stream=None)
+    # every model evaluation, plus the returned point when the last evaluation was not it
+    assert len(cases) - optimum["optimizer"]["model_evaluations"] in (0, 1)
+    last = reader.get_case(cases[-1])
+    for name in ("BPR", "FPR", "OPR"):
+        assert optimum["quantities"][name]["value"] == pytest.approx(float(last[name][0]), rel=RECORD_RTOL)
+    assert optimum["objective"]["value"] == pytest.approx(float(last.get_objectives()["mission_fuel"][0]),
+                                                          rel=RECORD_RTOL)
+
+
+def test_optimize_failed_keeps_files(tmp_path):
+    """An optimizer stopped by its iteration limit: exit 3, the results so far written and readable."""
+    (tmp_path / "short.toml").write_text("[optimizer]\nmaxiter = 1\n", encoding="utf-8")
+    run = bypassopt("optimize", "--scenario", "short.toml", "--out", "res", "--no-plots", cwd=tmp_path)
+    assert run.returncode == 3, run.stderr
+    last = run.stderr.strip().splitlines()[-1]
+    assert last.startswith("bypassopt: error:") and "did not converge" in last and "kept" in last
+    out = tmp_path / "res"
+    optimum = json.loads((out / "optimum.json").read_text())
+    assert optimum["optimizer"]["success"] is False and optimum["optimizer"]["message"]
+    assert om.CaseReader(str(out / "history.sqlite")).list_cases("driver", out_stream=None)
+    assert (out / "summary.txt").read_text().count("DID NOT CONVERGE") == 1
+    assert "bypassopt: best installed cycle" in run.stdout  # the report is still printed
+
+
+# --------------------------------------------------------------------------------------------------------
+# the other commands
+
+
+def test_evaluate(tmp_path):
+    run = bypassopt("evaluate", "--bpr", 12, "--t4", 1600, "--out", "res", "--json", cwd=tmp_path)
+    assert run.returncode == 0, run.stderr
+    result = json.loads(run.stdout)
+    q = result["quantities"]
+    assert q["BPR"]["value"] == 12.0 and q["Tt4"]["value"] == 1600.0
+    assert q["FPR"]["value"] == demo_scenario()["design_variables"]["FPR"]["initial"]
+    out = tmp_path / "res"
+    assert sorted(os.listdir(out)) == ["design.csv", "design.json", "stations.csv", "summary.txt"]
+    assert json.loads((out / "design.json").read_text())["quantities"] == q
+    assert len(_read_csv(out / "stations.csv")) == 15
+
+
+def test_evaluate_human_and_quiet(tmp_path, capsys, monkeypatch):
+    """The default prints the report; --quiet prints nothing at all (in-process, after the subprocess runs)."""
+    monkeypatch.chdir(tmp_path)
+    assert main(["evaluate", "--out", "a"]) == 0
+    captured = capsys.readouterr()
+    assert "CAUTION" in captured.out and "Stations" in captured.out and "Files written to a/" in captured.out
+    assert captured.err == ""
+    assert main(["evaluate", "--out", "b", "--quiet"]) == 0
+    captured = capsys.readouterr()
+    assert captured.out == "" and captured.err == ""
+    assert (tmp_path / "b" / "summary.txt").read_text() == (tmp_path / "a" / "summary.txt").read_text()
+
+
+def test_carpet(tmp_path, fast_scenario):
+    args = ["carpet", "--scenario", fast_scenario, "--out", "res", "--json"]
+    run = bypassopt(*args, *([] if HAVE_MATPLOTLIB else ["--no-plots"]), cwd=tmp_path)
+    assert run.returncode == 0, run.stderr
+    result = json.loads(run.stdout)
+    assert result["caution"] == CAUTION
+    out = tmp_path / "res"
+    data = json.loads((out / "carpet.json").read_text())
+    assert len(data["objective"]) == 3 and len(data["objective"][0]) == 3
+    rows = _read_csv(out / "carpet.csv")
+    assert len(rows) == 9 and {"BPR", "OPR", "FPR", "objective", "feasible"} <= set(rows[0])
+    assert sorted({float(r["BPR"]) for r in rows}) == [8.0, 10.0, 12.0]
+    if HAVE_MATPLOTLIB:
+        _assert_png(out / "carpet.png")
+    _no_leftovers(out)
+
+
+def test_trade(tmp_path, fast_scenario):
+    args = ["trade", "--scenario", fast_scenario, "--out", "res", "--json"]
+    run = bypassopt(*args, *([] if HAVE_MATPLOTLIB else ["--no-plots"]), cwd=tmp_path)
+    assert run.returncode == 0, run.stderr
+    result = json.loads(run.stdout)
+    assert result["caution"] == CAUTION
+    out = tmp_path / "res"
+    json.loads((out / "trade.json").read_text())
+    rows = _read_csv(out / "trade.csv")
+    assert len(rows) == 2
+    if HAVE_MATPLOTLIB:
+        _assert_png(out / "trade.png")
+
+
+def test_reengine(tmp_path):
+    run = bypassopt("reengine", "--out", "res", cwd=tmp_path)
+    assert run.returncode == 0, run.stderr
+    assert "re-engining" in run.stdout and "installed TSFC" in run.stdout and "CAUTION" in run.stdout
+    out = tmp_path / "res"
+    result = json.loads((out / "reengine.json").read_text())
+    assert result["caution"] == CAUTION
+    rows = {r["name"]: r for r in _read_csv(out / "reengine.csv")}
+    assert float(rows["mission_fuel"]["new"]) < float(rows["mission_fuel"]["previous"])
+    assert float(rows["mission_fuel"]["difference"]) == pytest.approx(
+        float(rows["mission_fuel"]["new"]) - float(rows["mission_fuel"]["previous"]), rel=1e-12)
+
+
+def test_check_derivatives(tmp_path):
+    run = bypassopt("check-derivatives", "--out", "res", "--json", cwd=tmp_path)
+    assert run.returncode == 0, run.stderr
+    result = json.loads(run.stdout)
+    assert result["passed"] and result["tolerance"] == 1e-6
+    assert result["totals"]["max_relative_error"] < 1e-6 and result["partials"]["max_relative_error"] < 1e-6
+    rows = _read_csv(tmp_path / "res" / "derivatives.csv")
+    assert {"cycle.hpc", "fan_sizing", "drag", "mission"} <= {r["component"] for r in rows}
+    assert "PASSED" not in run.stdout  # --json: nothing but the JSON document
+
+
+def test_check_derivatives_failure_exit_code(tmp_path, capsys, monkeypatch):
+    """A derivative error above the tolerance: exit 3, one line, the files still written."""
+    import bypassopt.cli as cli
+
+    def failing(scenario, tolerance):
+        comp = {"component": "cycle.hpc", "max_relative_error": 1e-3, "of": "Tt3", "wrt": "OPR"}
+        return {"caution": CAUTION, "design": {"BPR": 10.0, "FPR": 1.5, "OPR": 40.0, "T4_K": 1650.0},
+                "tolerance": tolerance, "passed": False,
+                "totals": {"max_relative_error": 1e-9, "entries": []},
+                "partials": {"max_relative_error": 1e-3, "components": [comp]}}
+
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.setattr(cli, "check_derivatives", failing)
+    assert main(["check-derivatives", "--out", "res", "--quiet"]) == 3
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "above the tolerance" in err and "kept in res" in err
+    assert json.loads((tmp_path / "res" / "derivatives.json").read_text())["passed"] is False
+
+
+def test_scenario_template(tmp_path):
+    """Printed and written template is the demo file; a partial file prints as the full merged scenario."""
+    demo_text = resources.files("bypassopt").joinpath("data", "demo_twin_170.toml").read_text("utf-8")
+    run = bypassopt("scenario", cwd=tmp_path)
+    assert run.returncode == 0 and run.stdout == demo_text
+    run = bypassopt("scenario", "--write", "my.toml", cwd=tmp_path)
+    assert run.returncode == 0 and (tmp_path / "my.toml").read_text() == demo_text
+    assert load_scenario(tmp_path / "my.toml") == demo_scenario()
+    run = bypassopt("scenario", "--write", "my.toml", cwd=tmp_path)
+    assert run.returncode == 2 and "--force" in run.stderr and len(run.stderr.splitlines()) == 1
+    (tmp_path / "part.toml").write_text("[design_point]\nthrust_required_N = 21000.0\n", encoding="utf-8")
+    run = bypassopt("scenario", "--scenario", "part.toml", cwd=tmp_path)
+    assert run.returncode == 0
+    merged = load_scenario(tmp_path / "part.toml")
+    (tmp_path / "full.toml").write_text(run.stdout, encoding="utf-8")
+    assert tomllib.loads(run.stdout)["design_point"]["thrust_required_N"] == 21000.0
+    assert load_scenario(tmp_path / "full.toml") == merged
+    run = bypassopt("scenario", "--scenario", "part.toml", "--json", cwd=tmp_path)
+    assert json.loads(run.stdout)["design_point"]["thrust_required_N"] == 21000.0
+    assert not (tmp_path / "bypassopt_results").exists()
+
+
+# --------------------------------------------------------------------------------------------------------
+# bad input: exit 2, one line naming the key, nothing written
+
+
+@pytest.mark.parametrize("text, key", [
+    ("[aircraft]\nwingspan_m = 35.0\n", "aircraft.wingspan_m"),
+    ('[design_point]\nthrust_required_N = "24 kN"\n', "design_point.thrust_required_N"),
+    ("[design_point]\nmach = 1.2\n", "design_point.mach"),
+    ("[installation]\nwing_height_m = 1.0\n", "wing_height_m"),
+])
+def test_bad_scenario_file(tmp_path, text, key):
+    (tmp_path / "bad.toml").write_text(text, encoding="utf-8")
+    run = bypassopt("optimize", "--scenario", "bad.toml", "--out", "res", cwd=tmp_path)
+    assert run.returncode == 2
+    lines = run.stderr.splitlines()
+    assert len(lines) == 1 and lines[0].startswith("bypassopt: error: ") and key in lines[0], run.stderr
+    assert run.stdout == ""
+    assert not (tmp_path / "res").exists()
+
+
+@pytest.mark.parametrize("argv, words", [
+    (["evaluate", "--bpr", "40"], ("--bpr", "40", "25")),
+    (["evaluate", "--fpr", "fast"], ("--fpr", "fast")),
+    (["optimize", "--objective", "range"], ("--objective", "range")),
+    (["optimize", "--frobnicate"], ("--frobnicate",)),
+    (["launch"], ("launch",)),
+    ([], ("choose a command",)),
+])
+def test_bad_options(tmp_path, capsys, monkeypatch, argv, words):
+    """Bad options: exit 2 and one stderr line, in-process (nothing is computed)."""
+    monkeypatch.chdir(tmp_path)
+    assert main(argv + ["--out", "res"] if argv and argv[0] != "launch" else argv) == 2
+    captured = capsys.readouterr()
+    lines = captured.err.splitlines()
+    assert len(lines) == 1 and lines[0].startswith("bypassopt: error: "), captured.err
+    for w in words:
+        assert w in lines[0]
+    assert captured.out == "" and os.listdir(tmp_path) == []
+
+
+@pytest.mark.skipif(pyoptsparse_available(), reason="pyoptsparse is installed")
+def test_driver_without_pyoptsparse(tmp_path, capsys, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    assert main(["optimize", "--driver", "SNOPT", "--out", "res"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "pyoptsparse" in err and "SNOPT" in err
+    assert os.listdir(tmp_path) == []
+
+
+@pytest.mark.parametrize("command", ["evaluate", "optimize", "carpet", "trade", "reengine", "check-derivatives",
+                                     "scenario"])
+def test_help(command, capsys):
+    """Every command explains itself and takes the common options."""
+    assert main([command, "--help"]) == 0
+    text = capsys.readouterr().out
+    for option in ("--scenario", "--out", "--json", "--quiet"):
+        assert option in text
+    assert main(["--help"]) == 0
+    assert command in capsys.readouterr().out
+
+
+def test_unexpected_error(tmp_path, capsys, monkeypatch):
+    """An unexpected failure: exit 1 and one line; --debug adds the traceback."""
+    import bypassopt.cli as cli
+
+    def broken(run, scenario):
+        raise RuntimeError("something\nbroke")
+
+    monkeypatch.chdir(tmp_path)
+    monkeypatch.setitem(cli.COMMANDS, "evaluate", broken)
+    assert main(["evaluate"]) == 1
+    err = capsys.readouterr().err
+    assert err == "bypassopt: error: unexpected RuntimeError: something broke (run again with --debug for the " \
+                  "traceback)\n"
+    assert main(["evaluate", "--debug"]) == 1
+    err = capsys.readouterr().err
+    assert "Traceback" in err and err.splitlines()[-1] == "bypassopt: error: unexpected RuntimeError: something broke"

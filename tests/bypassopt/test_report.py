@@ -1,0 +1,241 @@
+"""Reports: station flows conserve mass, summaries carry the caution, shadow prices read right, files are atomic."""
+
+import csv
+import json
+import os
+
+import numpy as np
+import pytest
+
+from bypassopt import CAUTION
+from bypassopt.problems.best_cycle import build_best_cycle_problem, build_evaluation_problem
+from bypassopt.report import (QUANTITIES, design_summary, format_number, format_summary, optimum_summary,
+                              station_table, summary_rows, write_csv, write_json, write_text)
+
+#: Flows are products of converged model outputs: they add up to round-off.
+MASS_RTOL = 1e-12
+#: The summary's values are the model's, converted to the units shown.
+VALUE_RTOL = 1e-14
+
+
+@pytest.fixture(scope="module")
+def evaluated():
+    """The demo engine at its initial design (BPR 10, FPR 1.5, OPR 40) with one non-default customer bleed."""
+    prob = build_evaluation_problem(design={"BPR": 11.0})
+    prob.set_val("customer_bleed_frac", 0.02)
+    prob.run_model()
+    return prob
+
+
+@pytest.fixture(scope="module")
+def optimised():
+    """The demo's best installed cycle and the driver's result."""
+    prob = build_best_cycle_problem()
+    result = prob.run_driver()
+    assert result.success
+    return prob, result
+
+
+def _stations(prob):
+    return {r["station"]: r for r in station_table(prob)}
+
+
+def test_station_flows_conserve_mass(evaluated):
+    """Bypass + core = W2; the core loses the customer bleed and gains the fuel; coolant returns downstream."""
+    prob = evaluated
+    st = _stations(prob)
+    w2 = prob.get_val("W2", units="kg/s")[0]
+    fuel = prob.get_val("fuel_flow", units="kg/s")[0]
+    bleed = prob.get_val("customer_bleed_frac")[0]
+    vane, rotor = prob.get_val("cooling_frac_vane")[0], prob.get_val("cooling_frac_rotor")[0]
+    core = st["25"]["W_kg_s"]
+    assert st["13"]["W_kg_s"] + st["21"]["W_kg_s"] == pytest.approx(w2, rel=MASS_RTOL)
+    assert st["13"]["W_kg_s"] / core == pytest.approx(11.0, rel=MASS_RTOL)
+    assert st["0"]["W_kg_s"] == st["2"]["W_kg_s"] == pytest.approx(w2, rel=MASS_RTOL)
+    assert st["17"]["W_kg_s"] == st["18"]["W_kg_s"] == st["13"]["W_kg_s"]
+    assert st["3"]["W_kg_s"] == st["25"]["W_kg_s"] == st["21"]["W_kg_s"]
+    # burner: air left after the extractions at the HPC exit, plus fuel
+    assert st["4"]["W_kg_s"] == pytest.approx(core * (1.0 - vane - rotor - bleed) + fuel, rel=MASS_RTOL)
+    assert st["41"]["W_kg_s"] - st["4"]["W_kg_s"] == pytest.approx(core * vane, rel=1e-10)
+    assert st["45"]["W_kg_s"] - st["44"]["W_kg_s"] == pytest.approx(core * rotor, rel=1e-10)
+    # the core nozzle passes everything that entered the core except the customer bleed, plus the fuel
+    assert st["8"]["W_kg_s"] == pytest.approx(core * (1.0 - bleed) + fuel, rel=MASS_RTOL)
+    assert st["8"]["W_kg_s"] > core * (1.0 - bleed)
+    assert st["7"]["W_kg_s"] == st["5"]["W_kg_s"] == st["8"]["W_kg_s"]
+
+
+def test_station_states(evaluated):
+    """Totals are the model's in K and kPa; fuel-air ratio only in burnt gas, diluted by each coolant."""
+    prob = evaluated
+    st = _stations(prob)
+    assert [r["station"] for r in station_table(prob)] == ["0", "2", "13", "21", "25", "3", "4", "41", "44",
+                                                            "45", "5", "7", "8", "17", "18"]
+    assert st["3"]["Tt_K"] == pytest.approx(prob.get_val("Tt3", units="K")[0], rel=VALUE_RTOL)
+    assert st["3"]["Pt_kPa"] == pytest.approx(prob.get_val("Pt3", units="Pa")[0] / 1e3, rel=VALUE_RTOL)
+    assert st["3"]["Pt_kPa"] / st["2"]["Pt_kPa"] == pytest.approx(40.0, rel=1e-12)  # OPR = Pt3/Pt2
+    for s in ("0", "2", "13", "21", "25", "3", "17", "18"):
+        assert st[s]["FAR"] is None
+    assert st["4"]["FAR"] > st["41"]["FAR"] == st["44"]["FAR"] > st["45"]["FAR"] == st["5"]["FAR"] == st["8"]["FAR"]
+    assert st["8"]["Tt_K"] == st["7"]["Tt_K"] and st["8"]["Pt_kPa"] == st["7"]["Pt_kPa"]
+    assert st["0"]["Mach"] == pytest.approx(0.78) and st["8"]["Mach"] <= 1.0 + 1e-12
+    assert st["2"]["Ps_kPa"] is None
+
+
+def test_design_summary_values_and_units(evaluated, tmp_path):
+    """Every key quantity is there, in the units shown; the summary serialises to JSON and CSV."""
+    s = design_summary(evaluated)
+    assert s["caution"] == CAUTION
+    assert [name for name, *_ in QUANTITIES] == list(s["quantities"])
+    q = s["quantities"]
+    assert q["installed_TSFC"]["units"] == "mg/(N*s)"
+    assert q["installed_TSFC"]["value"] == pytest.approx(
+        evaluated.get_val("installed_TSFC", units="kg/(N*s)")[0] * 1e6, rel=VALUE_RTOL)
+    assert q["installed_TSFC"]["value"] > q["TSFC"]["value"]  # nacelle drag costs fuel
+    drag_parts = sum(q[k]["value"] for k in ("fan_cowl_drag", "core_cowl_drag", "plug_drag", "pylon_drag"))
+    assert drag_parts == pytest.approx(q["nacelle_drag"]["value"], rel=1e-12)
+    assert q["powerplant_mass"]["value"] == pytest.approx(q["engine_dry_mass"]["value"] + q["nacelle_mass"]["value"],
+                                                          rel=1e-12)
+    assert q["BPR"]["value"] == 11.0 and q["Tt4"]["units"] == "K"
+    write_json(tmp_path / "s.json", s)
+    assert json.loads((tmp_path / "s.json").read_text())["quantities"]["W2"]["value"] == q["W2"]["value"]
+    write_csv(tmp_path / "s.csv", summary_rows(s))
+    with open(tmp_path / "s.csv", newline="") as fh:
+        rows = list(csv.DictReader(fh))
+    assert {r["name"]: float(r["value"]) for r in rows}["mission_fuel"] == q["mission_fuel"]["value"]
+
+
+def test_summary_text_has_caution_and_tables(evaluated):
+    """The text report carries the caution and aligned tables of the design and the stations."""
+    text = format_summary(design_summary(evaluated))
+    assert CAUTION in " ".join(text.split())
+    assert "Stations" in text and "installed TSFC" in text
+    lines = text.splitlines()
+    header = next(ln for ln in lines if ln.strip().startswith("station"))
+    station_lines = lines[lines.index(header) + 2:]
+    assert len(station_lines) == 15
+    # right-aligned numeric columns end at the same place
+    end = header.index("Tt K") + len("Tt K")
+    assert all(ln[end - 1] != " " for ln in station_lines)
+    assert max(len(ln) for ln in lines) <= 120
+
+
+def test_optimum_summary(optimised, tmp_path):
+    """Optimizer record, constraints with margins and shadow prices, and a plain sentence per active limit."""
+    prob, result = optimised
+    s = optimum_summary(prob, result)
+    assert s["caution"] == CAUTION
+    opt = s["optimizer"]
+    assert opt["success"] and opt["iterations"] == result.iter_count
+    assert opt["model_evaluations"] == result.model_evals and opt["failed_evaluations"] >= 0
+    assert "success" in opt["message"].lower()
+    assert s["objective"]["name"] == "mission_fuel"
+    assert s["objective"]["value"] == s["quantities"]["mission_fuel"]["value"]
+    cons = s["constraints"]
+    assert set(cons) == {"clearance_margin", "diameter_margin", "Tt41", "Tt3", "W3_corrected"}
+    for c in cons.values():
+        sign = 1.0 if c["kind"] == "lower" else -1.0
+        assert c["margin"] == pytest.approx(sign * (c["value"] - c["limit"]), abs=1e-12)
+        assert c["margin"] > -1e-6
+        assert (c["statement"] is not None) == c["active"]
+    active = [n for n, c in cons.items() if c["active"]]
+    assert active, "the demo optimum is limited by at least one constraint"
+    c = cons["clearance_margin"]
+    assert c["active"] and c["multiplier"] > 0.0
+    assert c["shadow_price_units"] == "kg per m"
+    per_cm = format_number(c["multiplier"] * 0.01, 3)
+    assert c["statement"] == f"relaxing the nacelle ground-clearance margin by 1 cm would save {per_cm} kg of " \
+                             "mission fuel."
+    assert s["shadow_price_statements"][0] == c["statement"]
+    assert s["kkt"]["projected_gradient"] < 1e-2 and s["kkt"]["multipliers_nonnegative"]
+    assert set(s["bounds"]) == {"BPR", "FPR", "OPR"} and set(s["fixed_design_variables"]) == {"Tt4"}
+    text = format_summary(s)
+    assert CAUTION in " ".join(text.split())
+    assert "Relaxing the nacelle ground-clearance margin by 1 cm" in text and "converged" in text
+    write_json(tmp_path / "o.json", s)
+    assert json.loads((tmp_path / "o.json").read_text())["constraints"]["clearance_margin"]["active"] is True
+
+
+def test_shadow_price_units_installed_tsfc():
+    """With installed TSFC as objective the clearance multiplier is d TSFC / d clearance in mg/(N*s) per m.
+
+    At this optimum only the clearance limit and the OPR upper bound are active, so the BPR row of the
+    KKT conditions alone gives the multiplier: dF/dBPR - lambda d(clearance margin)/dBPR = 0.
+    """
+    prob = build_best_cycle_problem(objective="installed_TSFC")
+    result = prob.run_driver()
+    s = optimum_summary(prob, result)
+    assert s["constraints"]["clearance_margin"]["active"] and s["bounds"]["OPR"]["active"] == "upper"
+    df = prob.compute_totals(of=["installed_TSFC"], wrt=["BPR"], return_format="flat_dict")
+    dc = prob.compute_totals(of=["clearance_margin"], wrt=["BPR"], return_format="flat_dict")
+    df_mg = float(df["installed_TSFC", "BPR"][0, 0]) * 1e6  # kg/(N*s) -> mg/(N*s), units of the model
+    lam = df_mg / float(dc["clearance_margin", "BPR"][0, 0])
+    assert s["constraints"]["clearance_margin"]["multiplier"] == pytest.approx(lam, rel=1e-3)
+
+
+def test_format_number():
+    assert format_number(15858.66) == "15858.7"
+    assert format_number(24000.0) == "24000"
+    assert format_number(1.58197) == "1.582"
+    assert format_number(1650.0) == "1650"
+    assert format_number(-2.3e-11) == "0"
+    assert format_number(None) == ""
+    assert format_number(np.float64(0.00036992)) == "3.70e-04"
+
+
+# --------------------------------------------------------------------------------------------------------
+# Atomic writers
+
+
+def _leftovers(folder, keep):
+    return sorted(p for p in os.listdir(folder) if p not in keep)
+
+
+def test_write_json_failure_leaves_old_file(tmp_path):
+    """A value JSON cannot hold: TypeError, the previous file is untouched and no temporary file remains."""
+    path = tmp_path / "out.json"
+    write_json(path, {"a": 1})
+    with pytest.raises(TypeError):
+        write_json(path, {"a": 2, "b": object()})
+    assert json.loads(path.read_text()) == {"a": 1}
+    assert _leftovers(tmp_path, {"out.json"}) == []
+    with pytest.raises(TypeError):
+        write_json(tmp_path / "new.json", {"b": object()})
+    assert not (tmp_path / "new.json").exists()
+    assert _leftovers(tmp_path, {"out.json"}) == []
+
+
+def test_write_csv_failure_leaves_no_partial_file(tmp_path):
+    """A bad cell in the last row: nothing of the new table reaches the file."""
+    path = tmp_path / "t.csv"
+    write_csv(path, [{"x": 1.0, "y": "a"}])
+    rows = [{"x": float(i), "y": "b"} for i in range(1000)] + [{"x": object(), "y": "c"}]
+    with pytest.raises(TypeError):
+        write_csv(path, rows)
+    assert path.read_text() == "x,y\n1.0,a\n"
+    assert _leftovers(tmp_path, {"t.csv"}) == []
+
+
+def test_write_interrupted_at_replace(tmp_path, monkeypatch):
+    """A failure while the file is moved into place removes the temporary file and keeps the old one."""
+    path = tmp_path / "s.txt"
+    write_text(path, "old\n")
+
+    def broken_replace(src, dst):
+        raise OSError("disk full")
+
+    monkeypatch.setattr(os, "replace", broken_replace)
+    with pytest.raises(OSError, match="disk full"):
+        write_text(path, "new\n")
+    monkeypatch.undo()
+    assert path.read_text() == "old\n"
+    assert _leftovers(tmp_path, {"s.txt"}) == []
+
+
+def test_writers_round_trip(tmp_path):
+    """NaN becomes null (standard JSON); None an empty CSV cell; floats keep full precision."""
+    write_json(tmp_path / "a.json", {"v": np.array([1.0, np.nan]), "flag": np.bool_(True), "n": np.int64(3)})
+    assert json.loads((tmp_path / "a.json").read_text()) == {"v": [1.0, None], "flag": True, "n": 3}
+    write_csv(tmp_path / "b.csv", [["name", "value"], ["pi", np.pi], ["none", None]])
+    with open(tmp_path / "b.csv", newline="") as fh:
+        rows = list(csv.reader(fh))
+    assert rows == [["name", "value"], ["pi", repr(np.pi)], ["none", ""]]
