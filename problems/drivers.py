@@ -16,7 +16,8 @@ class BackOffSLSQPDriver(om.ScipyOptimizeDriver):
     this driver returns the last good objective plus ``FAILED_EVALUATION_PENALTY`` (in scaled units)
     with the last good constraint values: the merit function rises and SLSQP's line search shortens
     its step. Failed evaluations are counted in ``failed_evaluations``; any other exception aborts the
-    run as usual.
+    run as usual. A failed evaluation is recorded with ``success = 0`` and the error as its message, so
+    a ``om.CaseReader`` (and the convergence plot) can leave it out.
     """
 
     def __init__(self, **kwargs):
@@ -25,13 +26,29 @@ class BackOffSLSQPDriver(om.ScipyOptimizeDriver):
         super().__init__(**kwargs)
         self.failed_evaluations = 0
         self._last_good = None
+        self._failure = None
 
     def _setup_driver(self, problem):
         super()._setup_driver(problem)
         self.failed_evaluations = 0
         self._last_good = None
 
+    def _run_solve_nonlinear(self):
+        try:
+            return super()._run_solve_nonlinear()
+        except om.AnalysisError as err:
+            self._failure = str(err).splitlines()[-1][:500]
+            raise
+
+    def _get_recorder_metadata(self, case_name):
+        meta = super()._get_recorder_metadata(case_name)
+        if self._failure is not None:
+            meta["success"] = 0
+            meta["msg"] = self._failure
+        return meta
+
     def _objfunc(self, x_new):
+        self._failure = None
         f_new = super()._objfunc(x_new)
         if self._exc_info is not None and issubclass(self._exc_info[0], om.AnalysisError):
             if self._last_good is None:  # the starting point itself fails: nothing to back off to

@@ -29,7 +29,7 @@ def kkt_analysis(prob, active_tol=ACTIVE_TOL):
         ``objective`` (name, units), ``constraints`` {name: {value, limit, kind, units, active, multiplier,
         shadow_price}} with shadow_price = d(objective)/d(limit) in objective units per limit unit,
         ``bounds`` {design var: {value, lower, upper, active, multiplier}}, ``projected_gradient`` (norm of
-        the Lagrangian gradient relative to the objective gradient) and ``complementarity`` (largest
+        the Lagrangian gradient, each component times its design variable's bound range, relative to |f|) and ``complementarity`` (largest
         |lambda_i c_i| relative to |f|).
     """
     objective = prob.bypassopt_objective
@@ -86,7 +86,10 @@ def kkt_analysis(prob, active_tol=ACTIVE_TOL):
         else:
             bounds[name]["multiplier"] = float(mult)
     lagr = grad_f + A.T @ lam
-    scale = max(np.linalg.norm(grad_f), 1e-300)
+    # measured in the optimizer's view: each design variable over its bound range, relative to |f|, so
+    # the number stays meaningful at an unconstrained optimum (where grad f itself vanishes)
+    span = np.array([dvs[n]["upper"] - dvs[n]["lower"] for n in dv_names])
+    scale = max(abs(f_val), 1e-300)
     compl = max([abs(v["multiplier"] * v["c"]) for v in info.values()] + [0.0]) / max(abs(f_val), 1e-300)
     for v in info.values():
         v.pop("c")
@@ -94,7 +97,7 @@ def kkt_analysis(prob, active_tol=ACTIVE_TOL):
         "objective": {"name": objective, "value": f_val, "units": obj_units},
         "constraints": info,
         "bounds": bounds,
-        "projected_gradient": float(np.linalg.norm(lagr) / scale),
+        "projected_gradient": float(np.linalg.norm(lagr * span) / scale),
         "gradient_norm": float(np.linalg.norm(grad_f)),
         "complementarity": float(compl),
         "dual_feasible": bool(np.all(lam >= -1e-6 * max(1.0, np.max(np.abs(lam), initial=0.0)))),

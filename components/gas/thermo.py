@@ -77,13 +77,10 @@ class _GasBase:
         fr = np.real(far)
         shape = np.broadcast(tr, fr).shape
         T = np.full(shape, 800.0)
+        coef = self._mixture_coefficients(np.broadcast_to(fr, shape))
         for _ in range(_NEWTON_MAXITER):
-            p = self.properties(T, fr, check=False)
-            if which == "h":
-                res, slope = p.h - tr, p.cp
-            else:
-                res, slope = p.phi - tr, p.dphi_dT
-            step = res / slope
+            value, slope = self._newton_terms(which, T, coef)
+            step = (value - tr) / slope
             T = np.clip(T - step, 0.5 * self.T_MIN, 1.5 * self.T_MAX)
             if np.all(np.abs(step) <= _NEWTON_TOL * T):
                 break
@@ -172,43 +169,64 @@ class ThermallyPerfectGas(_GasBase):
         r_species = R_UNIVERSAL / mol
         self.R_air = float(np.dot(y_air, r_species))
         self.R_fuel = float(np.dot(dy_fuel, r_species))
-        # Combined coefficient sets (J/(kg K) units) for air and per-kg-fuel change, low/high range.
+        # Combined coefficient sets (J/(kg K) units) for air (row 0) and per-kg-fuel change (row 1), low and
+        # high range. The reference values at T_REF are folded into a6 and a7, so that h = H(T) and
+        # phi = S(T) directly (h and phi are sensible values referred to T_REF).
         lo = np.array([NASA7[s][2] for s in SPECIES])  # (5 species, 7)
         hi = np.array([NASA7[s][3] for s in SPECIES])
-        self._coef = {}
-        for key, w in (("air", y_air), ("fuel", dy_fuel)):
-            wr = w * r_species
-            self._coef[key] = (wr @ lo, wr @ hi)
-        # reference values at T_REF (low range)
-        self._href = {k: self._H(c[0], T_REF) for k, c in self._coef.items()}
-        self._sref = {k: self._S(c[0], T_REF) for k, c in self._coef.items()}
+        weights = np.stack([y_air * r_species, dy_fuel * r_species])  # (2, 5)
+        self._lo = weights @ lo  # (2, 7)
+        self._hi = weights @ hi
+        href = self._H(self._lo, T_REF)
+        sref = self._S(self._lo, T_REF)
+        for c in (self._lo, self._hi):
+            c[:, 5] -= href
+            c[:, 6] -= sref
 
-    # polynomial pieces ------------------------------------------------------------------------
+    # polynomial pieces (coefficients on the last axis) ------------------------------------------
     @staticmethod
     def _cp(a, T):
-        return a[0] + T * (a[1] + T * (a[2] + T * (a[3] + T * a[4])))
+        return a[..., 0] + T * (a[..., 1] + T * (a[..., 2] + T * (a[..., 3] + T * a[..., 4])))
 
     @staticmethod
     def _dcp(a, T):
-        return a[1] + T * (2 * a[2] + T * (3 * a[3] + T * 4 * a[4]))
+        return a[..., 1] + T * (2 * a[..., 2] + T * (3 * a[..., 3] + T * 4 * a[..., 4]))
 
     @staticmethod
     def _H(a, T):
-        return T * (a[0] + T * (a[1] / 2 + T * (a[2] / 3 + T * (a[3] / 4 + T * a[4] / 5)))) + a[5]
+        return T * (a[..., 0] + T * (a[..., 1] / 2 + T * (a[..., 2] / 3 + T * (a[..., 3] / 4 + T * a[..., 4] / 5)))) \
+            + a[..., 5]
 
     @staticmethod
     def _S(a, T):
-        return a[0] * np.log(T) + T * (a[1] + T * (a[2] / 2 + T * (a[3] / 3 + T * a[4] / 4))) + a[6]
+        return a[..., 0] * np.log(T) + T * (a[..., 1] + T * (a[..., 2] / 2 + T * (a[..., 3] / 3 + T * a[..., 4] / 4))) \
+            + a[..., 6]
 
-    def _pure(self, key, T):
-        """cp, dcp/dT, h, phi of the 'air' or 'fuel' coefficient set (per kg air / per kg fuel)."""
-        lo, hi = self._coef[key]
-        high = np.real(T) > _T_MID
-        cp = np.where(high, self._cp(hi, T), self._cp(lo, T))
-        dcp = np.where(high, self._dcp(hi, T), self._dcp(lo, T))
-        h = np.where(high, self._H(hi, T), self._H(lo, T)) - self._href[key]
-        phi = np.where(high, self._S(hi, T), self._S(lo, T)) - self._sref[key]
-        return cp, dcp, h, phi
+    def _select(self, lo, hi, T):
+        """Per-element coefficients of the range each temperature falls in (NASA split at 1000 K)."""
+        return np.where((np.real(T) > _T_MID)[..., None], hi, lo)
+
+    def _both(self, T):
+        """cp, dcp/dT, h, phi of air (index 0, per kg air) and of the fuel change (index 1, per kg fuel)."""
+        T = np.asarray(T)
+        c = self._select(self._lo.reshape((2,) + (1,) * T.ndim + (7,)),
+                         self._hi.reshape((2,) + (1,) * T.ndim + (7,)), T[None, ...])
+        return self._cp(c, T), self._dcp(c, T), self._H(c, T), self._S(c, T)
+
+    def _mixture_coefficients(self, far):
+        """Low- and high-range coefficients of the mixture per kg, (c_air + far c_fuel)/(1 + far)."""
+        f = np.asarray(far)[..., None]
+        lo = (self._lo[0] + f * self._lo[1]) / (1.0 + f)
+        hi = (self._hi[0] + f * self._hi[1]) / (1.0 + f)
+        return lo, hi
+
+    def _newton_terms(self, which, T, coef):
+        """Residual function and slope for the inversions: (h, cp) or (phi, cp/T) of the mixture."""
+        c = self._select(coef[0], coef[1], T)
+        cp = self._cp(c, T)
+        if which == "h":
+            return self._H(c, T), cp
+        return self._S(c, T), cp / T
 
     def properties(self, T, far, check=True):
         """Mixture properties and derivatives at temperature ``T`` (K) and fuel-air ratio ``far``.
@@ -222,16 +240,15 @@ class ThermallyPerfectGas(_GasBase):
         if check:
             self.check_temperature(T)
             self.check_far(far)
-        cpa, dcpa, ha, pha = self._pure("air", T)
-        cpf, dcpf, hf, phf = self._pure("fuel", T)
+        cp2, dcp2, h2, phi2 = self._both(T)
         inv = 1.0 / (1.0 + far)
-        cp = (cpa + far * cpf) * inv
-        dcp_dT = (dcpa + far * dcpf) * inv
-        h = (ha + far * hf) * inv
-        phi = (pha + far * phf) * inv
+        cp = (cp2[0] + far * cp2[1]) * inv
+        dcp_dT = (dcp2[0] + far * dcp2[1]) * inv
+        h = (h2[0] + far * h2[1]) * inv
+        phi = (phi2[0] + far * phi2[1]) * inv
         R = (self.R_air + far * self.R_fuel) * inv
-        return GasProperties(h=h, dh_dfar=(hf - h) * inv, cp=cp, dcp_dT=dcp_dT,
-                             dcp_dfar=(cpf - cp) * inv, phi=phi, dphi_dfar=(phf - phi) * inv,
+        return GasProperties(h=h, dh_dfar=(h2[1] - h) * inv, cp=cp, dcp_dT=dcp_dT,
+                             dcp_dfar=(cp2[1] - cp) * inv, phi=phi, dphi_dfar=(phi2[1] - phi) * inv,
                              R=R, dR_dfar=(self.R_fuel - R) * inv, T=T)
 
     def fuel_enthalpy_change(self, T):
@@ -239,8 +256,9 @@ class ThermallyPerfectGas(_GasBase):
 
         Used by the burner energy balance: (1 + f) h(T, f) = h_air(T) + f h_fuel(T).
         """
-        cpf, _, hf, _ = self._pure("fuel", np.asarray(T))
-        return hf, cpf
+        T = np.asarray(T)
+        c = self._select(self._lo[1], self._hi[1], T)
+        return self._H(c, T), self._cp(c, T)
 
     def __repr__(self):
         return f"ThermallyPerfectGas(hc_ratio={self.hc_ratio})"
@@ -288,6 +306,14 @@ class CaloricallyPerfectGas(_GasBase):
         return GasProperties(h=self.cp * (T - T_REF) + zero, dh_dfar=zero, cp=cp, dcp_dT=zero,
                              dcp_dfar=zero, phi=self.cp * np.log(T / T_REF) + zero, dphi_dfar=zero,
                              R=self.R_air * one, dR_dfar=zero, T=T + zero)
+
+    def _mixture_coefficients(self, far):
+        return None
+
+    def _newton_terms(self, which, T, coef):
+        if which == "h":
+            return self.cp * (T - T_REF), self.cp + 0.0 * T
+        return self.cp * np.log(T / T_REF), self.cp / T
 
     def fuel_enthalpy_change(self, T):
         """Per kg of fuel the products carry the gas enthalpy: h_fuel = cp (T - T_REF), d/dT = cp."""

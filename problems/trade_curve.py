@@ -1,0 +1,252 @@
+"""Trade curve: the best installed cycle re-solved along a sweep of one limit, with its shadow prices."""
+
+import numpy as np
+from openmdao.utils.units import unit_conversion
+
+from bypassopt.problems.best_cycle import OBJECTIVES, build_best_cycle_problem, constraint_limits
+from bypassopt.problems.kkt import kkt_analysis
+from bypassopt.scenario import SCHEMA, ScenarioError, load_scenario, validate
+
+#: Limits a trade curve can sweep: scenario key -> (scenario section, model input it sets or None for a
+#: constraint bound, units, step of the sentence, name of that step, what the limit is called, the
+#: model output of the constraint it bounds).
+TRADE_LIMITS = {
+    "max_nacelle_diameter_m": ("limits", "max_nacelle_diameter", "m", 0.01, "cm", "allowed nacelle diameter",
+                               "diameter_margin"),
+    "wing_height_m": ("installation", "wing_height", "m", 0.01, "cm",
+                      "wing height above the ground at the engine station", "clearance_margin"),
+    "min_ground_clearance_m": ("installation", "min_ground_clearance", "m", 0.01, "cm",
+                               "required ground clearance", "clearance_margin"),
+    "max_T41_K": ("limits", None, "K", 1.0, "K", "allowed T41", "Tt41"),
+    "max_T3_K": ("limits", None, "K", 1.0, "K", "allowed T3", "Tt3"),
+}
+
+#: What one unit of each objective is called in the sentence.
+_OBJECTIVE_WORDS = {"mission_fuel": "kg of fuel", "installed_TSFC": "mg/(N*s) of installed TSFC"}
+
+#: Outputs reported at every optimum: name -> units.
+REPORTED_OUTPUTS = {"nacelle_max_diameter": "m", "clearance_margin": "m", "diameter_margin": "m", "Tt41": "K",
+                    "Tt3": "K", "W3_corrected": "kg/s", "jet_velocity_ratio": None, "installed_TSFC": "mg/(N*s)",
+                    "mission_fuel": "kg", "powerplant_mass": "kg"}
+
+
+def _model_units(prob, name):
+    """Units of a promoted variable as the model computes it."""
+    meta = prob.model.get_io_metadata(metadata_keys=["units"], includes=[name], return_rel_names=False)
+    for path, m in meta.items():
+        if path.split(".")[-1] == name.split(".")[-1]:
+            return m["units"]
+    return None
+
+
+def _factor(from_units, to_units):
+    """Multiplier converting a derivative's numerator from ``from_units`` to ``to_units``."""
+    if not from_units or not to_units or from_units == to_units:
+        return 1.0
+    return unit_conversion(from_units, to_units)[0]
+
+
+def settle_at_result(prob):
+    """Leave a problem run by a SciPy driver evaluated at the optimizer's returned point.
+
+    ``ScipyOptimizeDriver`` leaves the model at its last evaluation; after a line-search back-off that
+    can differ from the returned optimum, so the returned design is set and the model re-run if needed.
+    """
+    result = getattr(prob.driver, "_scipy_optimize_result", None)
+    if result is None:
+        return
+    x = np.asarray(result.x, dtype=float)
+    i, changed = 0, False
+    for name, current in prob.driver.get_design_var_values().items():
+        size = np.size(current)
+        new = x[i:i + size]
+        i += size
+        if not np.allclose(np.ravel(current), new, rtol=0.0, atol=1e-14):
+            prob.driver.set_design_var(name, new)
+            changed = True
+    if changed:
+        prob.run_model()
+
+
+def limit_sensitivity(prob, kkt, limit):
+    """d(optimum objective)/d(limit), objective units per limit unit, from the multipliers at an optimum.
+
+    By the envelope theorem (Nocedal and Wright, *Numerical Optimization*, 2nd ed., section 12.8), the
+    optimum objective f* changes with a parameter p as d f*/dp = df/dp + sum_i lambda_i dc_i/dp, with the
+    limits written c_i <= 0 and lambda_i >= 0 their multipliers. A limit that is a model input (nacelle
+    diameter limit, wing height, minimum clearance) enters through the margins; one that is a constraint
+    bound U (T41, T3) gives d f*/dU = -lambda.
+    """
+    section, var, units, _, _, _, constraint = TRADE_LIMITS[limit]
+    obj_name, obj_units, _ = OBJECTIVES[prob.bypassopt_objective]
+    if var is None:
+        return float(kkt["constraints"][constraint]["shadow_price"])
+    limits = constraint_limits(prob)
+    of = [obj_name] + list(limits)
+    totals = prob.compute_totals(of=of, wrt=[var], return_format="flat_dict", driver_scaling=False)
+    wrt_factor = 1.0 / _factor(_model_units(prob, var), units)
+
+    def d(name, to_units):
+        return float(np.squeeze(totals[(name, var)])) * _factor(_model_units(prob, name), to_units) * wrt_factor
+
+    sens = d(obj_name, obj_units)
+    for name, (kind, _, cunits) in limits.items():
+        lam = kkt["constraints"][name]["multiplier"]
+        if lam != 0.0:
+            sign = 1.0 if kind == "upper" else -1.0
+            sens += lam * sign * d(name, cunits)
+    return sens
+
+
+def active_set_degenerate(prob, kkt, rtol=1e-6):
+    """Return True when the gradients of the active constraints and bounds are linearly dependent.
+
+    Then the multipliers, and so the split of a shadow price between coinciding limits, are not unique
+    (e.g. the diameter limit equal to the diameter the clearance allows): the optimum objective has
+    different one-sided slopes with respect to either limit.
+    """
+    active = [n for n, c in kkt["constraints"].items() if c["active"]]
+    dvs = list(prob.bypassopt_design_vars)
+    rows = []
+    if active:
+        totals = prob.compute_totals(of=active, wrt=dvs, return_format="flat_dict", driver_scaling=False)
+        for name in active:
+            rows.append(np.array([float(np.squeeze(totals[(name, w)])) for w in dvs]))
+    for j, name in enumerate(dvs):
+        if kkt["bounds"][name]["active"]:
+            rows.append(np.eye(len(dvs))[j])
+    if len(rows) < 2:
+        return False
+    A = np.array([r / max(np.linalg.norm(r), 1e-300) for r in rows])
+    sv = np.linalg.svd(A, compute_uv=False)
+    return bool(len(rows) > len(dvs) or sv[-1] < rtol * sv[0])
+
+
+def _sentence(limit, objective, sens, value, success=True, degenerate=False):
+    _, _, units, step, step_name, phrase, _ = TRADE_LIMITS[limit]
+    if not success:
+        return f"At {value:g} {units} the optimizer did not converge; no shadow price is given."
+    delta = sens * step
+    if abs(delta) < 1e-9 * max(1.0, abs(sens)):
+        return (f"At {value:g} {units} the {phrase} does not bind: one more {step_name} saves 0 "
+                f"{_OBJECTIVE_WORDS[objective]}.")
+    verb = "saves" if delta < 0.0 else "costs"
+    text = (f"At {value:g} {units}, one more {step_name} of {phrase} {verb} {abs(delta):.3g} "
+            f"{_OBJECTIVE_WORDS[objective]}")
+    if degenerate:
+        text += " (several active limits coincide here, so this split of the shadow price is not unique)"
+    return text + "."
+
+
+def _scenario_at(scenario, limit, value):
+    section = TRADE_LIMITS[limit][0]
+    return validate({section: {limit: float(value)}}, base=scenario)
+
+
+def run_trade_curve(scenario=None, limit=None, values=None, progress=None):
+    """Best installed cycle along a sweep of one limit, warm-started, with shadow prices at every optimum.
+
+    Each point re-solves ``build_best_cycle_problem`` starting from the previous optimum's design
+    variables. A limit that is a model input (``max_nacelle_diameter_m``, ``wing_height_m``,
+    ``min_ground_clearance_m``) is changed on one reused problem; a constraint bound (``max_T41_K``,
+    ``max_T3_K``) needs a problem rebuilt from a scenario copy, then set to the previous optimum.
+    At every optimum ``kkt_analysis`` gives the multipliers and shadow prices of the active constraints,
+    and ``limit_sensitivity`` the change of the optimum objective per unit of the swept limit.
+
+    Parameters
+    ----------
+    scenario : dict or None
+        Validated scenario; None gives the demo.
+    limit : str or None
+        Scenario key of the swept limit (see ``TRADE_LIMITS``); None takes ``scenario['trade']['limit']``.
+    values : sequence of float or None
+        Values of the limit, in the key's units, solved in the given order; None takes
+        ``scenario['trade']['values']``.
+    progress : callable or None
+        ``progress(done, total, message)`` called after every point.
+
+    Returns
+    -------
+    dict
+        ``limit``, ``limit_description``, ``limit_units``, ``values`` (array), ``objective_name``,
+        ``objective_units``, ``scenario_name``, arrays over the points (``success``, ``objective``,
+        ``BPR``, ``FPR``, ``OPR``, ``Tt4``, ``d_objective_d_limit``) and ``points``: per point a dict
+        with ``value``, ``success``, ``message``, ``iterations``, ``objective``, ``design`` {design
+        variable: value}, ``outputs`` (``REPORTED_OUTPUTS``), ``active`` (names of the active
+        constraints and bounds), ``multipliers`` and ``shadow_prices`` {active constraint: value},
+        ``bound_multipliers``, ``projected_gradient``, ``degenerate`` (``active_set_degenerate``),
+        ``d_objective_d_limit`` (objective units per limit unit; NaN where the optimizer failed) and
+        ``sentence`` ("one more cm of allowed nacelle diameter saves X kg of fuel").
+    """
+    scenario = scenario or load_scenario()
+    trade = scenario.get("trade", {})
+    limit = limit or trade.get("limit")
+    if limit not in TRADE_LIMITS:
+        raise ScenarioError(f"trade limit {limit!r} is not one of {', '.join(TRADE_LIMITS)}.")
+    values = np.asarray(values if values is not None else trade["values"], dtype=float)
+    if values.ndim != 1 or values.size < 1:
+        raise ScenarioError("trade: values must be a list of numbers.")
+    section, var, units, _, _, _, _ = TRADE_LIMITS[limit]
+    scenarios = [_scenario_at(scenario, limit, v) for v in values]  # every value is checked before solving
+    objective = scenario["optimizer"]["objective"]
+    obj_name, obj_units, _ = OBJECTIVES[objective]
+
+    prob, previous, points = None, None, []
+    for k, (value, sc) in enumerate(zip(values, scenarios)):
+        if prob is None or var is None:
+            prob = build_best_cycle_problem(sc)
+        else:
+            prob.set_val(var, value, units=units)
+            prob.bypassopt_scenario = sc
+        if previous is not None:
+            for name, val in previous.items():
+                prob.set_val(name, val, units="K" if name == "Tt4" else None)
+        success = bool(prob.run_driver().success)
+        settle_at_result(prob)
+        result = prob.driver._scipy_optimize_result
+        kkt = kkt_analysis(prob)
+        sens = limit_sensitivity(prob, kkt, limit) if success else float("nan")
+        degenerate = active_set_degenerate(prob, kkt)
+        design = {name: float(np.squeeze(prob.get_val(name, units="K" if name == "Tt4" else None)))
+                  for name in ("BPR", "FPR", "OPR", "Tt4")}
+        if success:
+            previous = {name: design[name] for name in prob.bypassopt_design_vars}
+        active_cons = [n for n, c in kkt["constraints"].items() if c["active"]]
+        active_bounds = [f"{n} ({b['active']} bound)" for n, b in kkt["bounds"].items() if b["active"]]
+        points.append({
+            "value": float(value),
+            "success": success,
+            "message": str(result.message),
+            "iterations": int(result.nit),
+            "objective": kkt["objective"]["value"],
+            "design": design,
+            "outputs": {n: float(np.squeeze(prob.get_val(n, units=u))) for n, u in REPORTED_OUTPUTS.items()},
+            "active": active_cons + active_bounds,
+            "multipliers": {n: kkt["constraints"][n]["multiplier"] for n in active_cons},
+            "shadow_prices": {n: kkt["constraints"][n]["shadow_price"] for n in active_cons},
+            "bound_multipliers": {n: b["multiplier"] for n, b in kkt["bounds"].items() if b["active"]},
+            "projected_gradient": kkt["projected_gradient"],
+            "degenerate": degenerate,
+            "d_objective_d_limit": sens,
+            "sentence": _sentence(limit, objective, sens, value, success, degenerate),
+        })
+        if progress is not None:
+            progress(k + 1, values.size, f"{limit} = {value:g} {units}: {obj_name} "
+                                         f"{points[-1]['objective']:.6g} {obj_units}")
+
+    out = {
+        "limit": limit,
+        "limit_description": SCHEMA[section][limit]["desc"],
+        "limit_units": units,
+        "values": values,
+        "objective_name": objective,
+        "objective_units": obj_units,
+        "scenario_name": scenario["aircraft"].get("name", "scenario"),
+        "points": points,
+    }
+    out["success"] = np.array([p["success"] for p in points])
+    out["objective"] = np.array([p["objective"] for p in points])
+    for name in ("BPR", "FPR", "OPR", "Tt4"):
+        out[name] = np.array([p["design"][name] for p in points])
+    out["d_objective_d_limit"] = np.array([p["d_objective_d_limit"] for p in points])
+    return out
