@@ -104,8 +104,10 @@ class TurbofanCycleGroup(om.Group):
         self.add_subsystem("bypass_duct", DuctComp(station_in="13", station_out="17", name="bypass_duct",
                                                    **common), promotes=["*"])
         expansion = self.options["nozzle_expansion"]
+        # The exhaust duct carries no fuel-air ratio (DuctComp), so the core nozzle reads the LPT exit's.
         self.add_subsystem("core_nozzle", NozzleComp(station_in="7", station_throat="8", stream="core",
-                                                     expansion=expansion, **common), promotes=["*"])
+                                                     expansion=expansion, **common),
+                           promotes_inputs=["*", ("FAR7", "FAR5")], promotes_outputs=["*"])
         self.add_subsystem("bypass_nozzle", NozzleComp(station_in="17", station_throat="18", stream="bypass",
                                                        expansion=expansion, **common), promotes=["*"])
         self.add_subsystem("performance", PerformanceComp(num_nodes=nn), promotes=["*"])
@@ -125,6 +127,30 @@ class TurbofanCycleGroup(om.Group):
 
         if self.options["solve_sizing"] or self.options["turbine_temperature_input"] == "T41":
             newton = self.nonlinear_solver = om.NewtonSolver(solve_subsystems=True, max_sub_solves=100, maxiter=30,
-                                                             iprint=-1, atol=1e-8, rtol=1e-10, err_on_non_converge=True)
+                                                             iprint=-1, atol=1e-7 * np.sqrt(nn), rtol=1e-10,
+                                                         err_on_non_converge=True)
             newton.linesearch = om.BoundsEnforceLS(bound_enforcement="scalar", iprint=-1)
             self.linear_solver = om.DirectSolver()
+
+    def guess_nonlinear(self, inputs, outputs, residuals):
+        """Start the W2 loop no lower than ``Fn_required/Fn_specific``.
+
+        The first Gauss-Seidel pass evaluates the HP spool with the guessed W2, and W2 enters the cycle
+        only through the HP offtake per unit flow, ``HP_power_offtake/W2``. A guess far below the
+        solution (the output default of 100 kg/s for a 100 kN engine with a 2 MW offtake, or a user's
+        1 kg/s) asks the HP turbine for more work than the gas can give, and the pass stops with an
+        AnalysisError although the design itself is feasible. So the guess is raised to the flow the
+        thrust requirement needs at the last computed specific thrust (the output default of 100 N*s/kg
+        on a first run, below the cruise values of bypass engines, so the guess errs high). A larger W2
+        only lowers the offtake per unit flow, so this never makes the first pass infeasible; a larger
+        guess and a converged solution are left as they are. It also runs when a parent group's solver
+        closes the loop (the installed engine); it does nothing under complex step.
+        """
+        if self.under_complex_step:
+            return
+        fn_sp = np.real(outputs["Fn_specific"])
+        w2 = np.real(outputs["W2"])
+        need = np.real(inputs["Fn_required"]) / np.where(fn_sp > 0.0, fn_sp, 1.0)
+        low = (fn_sp > 0.0) & (w2 < need)
+        if np.any(low):
+            outputs["W2"] = np.where(low, need, w2)

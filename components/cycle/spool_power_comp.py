@@ -10,6 +10,9 @@ BPR_MAX = 30.0
 """Highest accepted bypass ratio, -."""
 POWER_OFFTAKE_MAX = 2.0e6
 """Highest accepted aircraft-systems shaft power offtake from the HP spool, W."""
+WORK_ROUNDOFF = 1.0e-6
+"""Accepted round-off below zero in an element work, J/kg: a compressor of pressure ratio 1 (no booster)
+gives +-2e-10 J/kg with the thermally perfect gas, from the temperature inversion of its entropy function."""
 
 
 class SpoolPowerComp(om.ExplicitComponent):
@@ -32,8 +35,9 @@ class SpoolPowerComp(om.ExplicitComponent):
     The offtake term needs the engine inlet flow ``W2`` (kg/s) because the offtake is a fixed power,
     not a power per unit flow.
 
-    Valid range: :math:`0 < \alpha \le 30`; works :math:`\ge 0` J/kg; offtake 0 to 2 MW;
-    :math:`W_2 > 0`. Outside it (or NaN) ``compute`` raises ``bypassopt.validation.InputRangeError``.
+    Valid range: :math:`0 < \alpha \le 30`; works :math:`\ge 0` J/kg (less the round-off allowance
+    ``WORK_ROUNDOFF``); offtake 0 to 2 MW; :math:`W_2 > 0`. Outside it (or NaN) ``compute`` raises
+    ``bypassopt.validation.InputRangeError``.
     """
 
     def initialize(self):
@@ -98,13 +102,13 @@ class SpoolPowerComp(om.ExplicitComponent):
                                   f"has a bypass stream; valid range above 0 up to {BPR_MAX:g}).")
         check_range("BPR", bpr, 0.0, BPR_MAX, "", lower_inclusive=False, where=where)
         if self.options["spool"] == "HP":
-            check_range("hpc_work", inputs["hpc_work"], 0.0, np.inf, "J/kg", where=where)
+            check_range("hpc_work", inputs["hpc_work"], -WORK_ROUNDOFF, np.inf, "J/kg", where=where)
             check_range("HP_power_offtake", inputs["HP_power_offtake"], 0.0, POWER_OFFTAKE_MAX, "W",
                         where=where)
             check_range("W2", inputs["W2"], 0.0, np.inf, "kg/s", lower_inclusive=False, where=where)
         else:
             for name in ("fan_bypass_work", "fan_core_work", "booster_work"):
-                check_range(name, inputs[name], 0.0, np.inf, "J/kg", where=where)
+                check_range(name, inputs[name], -WORK_ROUNDOFF, np.inf, "J/kg", where=where)
 
     def compute(self, inputs, outputs):
         """Evaluate the spool power demand at every node."""

@@ -83,7 +83,7 @@ class FanSizingComp(om.ExplicitComponent):
             dp("fan_tip_speed_corrected", wrt)
             dp("fan_tip_relative_mach", wrt)
         dp("fan_tip_speed_corrected", "Tt2")
-        for wrt in ("Tt2", "Pt2", "fan_face_mach"):
+        for wrt in ("Tt2", "fan_face_mach"):  # velocity and sound speed do not depend on Pt2
             dp("fan_tip_relative_mach", wrt)
 
     def _evaluate(self, inputs):
@@ -155,5 +155,5 @@ class FanSizingComp(om.ExplicitComponent):
             J["fan_tip_speed_corrected", k] = v / theta_root
             J["fan_tip_relative_mach", k] = u * v / (w_rel * fan.a)
         J["fan_tip_speed_corrected", "Tt2"] = -0.5 * u / theta_root / tt2
-        for k, src in (("Tt2", "Tt"), ("Pt2", "Pt"), ("fan_face_mach", "Mach")):
+        for k, src in (("Tt2", "Tt"), ("fan_face_mach", "Mach")):
             J["fan_tip_relative_mach", k] = (fan.V * fan.d["V", src] / w_rel - w_rel * fan.d["a", src] / fan.a) / fan.a

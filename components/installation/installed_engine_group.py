@@ -69,6 +69,7 @@ class InstalledEngineGroup(om.Group):
         self.set_input_defaults("Mach0", 0.78 * np.ones(nn))
 
         newton = self.nonlinear_solver = om.NewtonSolver(solve_subsystems=True, max_sub_solves=100, maxiter=40,
-                                                         iprint=-1, atol=1e-8, rtol=1e-10, err_on_non_converge=True)
+                                                         iprint=-1, atol=1e-7 * np.sqrt(nn), rtol=1e-10,
+                                                         err_on_non_converge=True)
         newton.linesearch = om.BoundsEnforceLS(bound_enforcement="scalar", iprint=-1)
         self.linear_solver = om.DirectSolver()

@@ -16,8 +16,8 @@ class InstalledPerformanceComp(om.ExplicitComponent):
     The nacelle drag (fan cowl, core cowl and plug scrubbing, pylon) is booked against the engine as
     a thrust debit, so the airframe's lift-to-drag ratio used for the mission must exclude the
     nacelles (common practice; field-reference section 11.1). When the sizing loop has converged
-    installed_thrust equals thrust_required. Valid for thrust_required > 0; a non-positive installed
-    thrust raises an error.
+    installed_thrust equals thrust_required. Valid for thrust_required > 0, nacelle_drag >= 0, W2 > 0,
+    fuel_flow >= 0; a non-positive installed thrust or a NaN raises an error.
     """
 
     def initialize(self):
@@ -54,6 +54,9 @@ class InstalledPerformanceComp(om.ExplicitComponent):
         """Book the drag against the thrust."""
         check_range("thrust_required", inputs["thrust_required"], 0.0, np.inf, "N", lower_inclusive=False)
         check_range("nacelle_drag", inputs["nacelle_drag"], 0.0, np.inf, "N")
+        check_range("W2", inputs["W2"], 0.0, np.inf, "kg/s", lower_inclusive=False)
+        check_range("Fn_specific", inputs["Fn_specific"], units="N*s/kg")  # NaN; the sign is checked below
+        check_range("fuel_flow", inputs["fuel_flow"], 0.0, np.inf, "kg/s")
         fi = inputs["W2"] * inputs["Fn_specific"] - inputs["nacelle_drag"]
         if np.any(np.real(fi) <= 0.0):
             i = int(np.argmax(np.real(fi) <= 0.0))
