@@ -4,6 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.atmosphere.flight_condition_group import FlightConditionGroup
+from bypassopt.components.coupled_solver import COUPLED_SOLVERS, set_coupled_solvers
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
 
 from .burner_comp import BurnerComp
@@ -66,6 +67,9 @@ class TurbofanCycleGroup(om.Group):
         self.options.declare("turbine_temperature_input", default="T4", values=("T4", "T41"),
                              desc="set the burner exit temperature Tt4, or the HPT rotor inlet temperature "
                                   "(input Tt41_required; Tt4 then follows from a balance solved by Newton)")
+        self.options.declare("coupled_solver", default="newton", values=COUPLED_SOLVERS,
+                             desc="'newton' (Newton + direct solver) or 'gauss_seidel' (block Gauss-Seidel, "
+                                  "flat memory per design for very large vectorized sweeps)")
         self.options.declare("solve_sizing", types=bool, default=True,
                              desc="solve the W2 <-> HP offtake loop here (False: a parent group solves it)")
 
@@ -126,11 +130,7 @@ class TurbofanCycleGroup(om.Group):
         self.set_input_defaults("fuel_LHV", 43.0e6 * ones, units="J/kg")
 
         if self.options["solve_sizing"] or self.options["turbine_temperature_input"] == "T41":
-            newton = self.nonlinear_solver = om.NewtonSolver(solve_subsystems=True, max_sub_solves=100, maxiter=30,
-                                                             iprint=-1, atol=1e-7 * np.sqrt(nn), rtol=1e-10,
-                                                         err_on_non_converge=True)
-            newton.linesearch = om.BoundsEnforceLS(bound_enforcement="scalar", iprint=-1)
-            self.linear_solver = om.DirectSolver()
+            set_coupled_solvers(self, self.options["coupled_solver"], nn, maxiter=30)
 
     def guess_nonlinear(self, inputs, outputs, residuals):
         """Start the W2 loop no lower than ``Fn_required/Fn_specific``.

@@ -3,6 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.coupled_solver import COUPLED_SOLVERS, set_coupled_solvers
 from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
@@ -21,7 +22,8 @@ class InstalledEngineGroup(om.Group):
     The engine must deliver the airframe's thrust requirement plus its own nacelle drag, and that
     drag grows with the engine size: W2 -> fan diameter -> nacelle -> drag -> Fn_required -> W2.
     This loop (and the HP-offtake loop of the cycle) is solved by a Newton solver with a direct
-    linear solver, so total derivatives are taken through the converged system.
+    linear solver, so total derivatives are taken through the converged system
+    (``coupled_solver='gauss_seidel'`` swaps in block Gauss-Seidel for very large vectorized sweeps).
 
     Promoted inputs a user connects: flight condition (``altitude``, ``dT_isa``, ``Mach0``), the cycle
     choices (``BPR``, ``FPR``, ``OPR``, ``Tt4``), ``thrust_required`` (N per engine, before nacelle
@@ -46,6 +48,9 @@ class InstalledEngineGroup(om.Group):
         self.options.declare("include_mission", types=bool, default=True,
                              desc="add the Breguet mission-fuel component")
         self.options.declare("num_engines", types=int, default=2, desc="engines on the aircraft")
+        self.options.declare("coupled_solver", default="newton", values=COUPLED_SOLVERS,
+                             desc="'newton' (Newton + direct solver) or 'gauss_seidel' (block Gauss-Seidel, "
+                                  "flat memory per design for very large vectorized sweeps)")
 
     def setup(self):
         """Assemble and configure the coupled solve."""
@@ -68,8 +73,4 @@ class InstalledEngineGroup(om.Group):
                                promotes_inputs=["*", ("cruise_speed", "V0")], promotes_outputs=["*"])
         self.set_input_defaults("Mach0", 0.78 * np.ones(nn))
 
-        newton = self.nonlinear_solver = om.NewtonSolver(solve_subsystems=True, max_sub_solves=100, maxiter=40,
-                                                         iprint=-1, atol=1e-7 * np.sqrt(nn), rtol=1e-10,
-                                                         err_on_non_converge=True)
-        newton.linesearch = om.BoundsEnforceLS(bound_enforcement="scalar", iprint=-1)
-        self.linear_solver = om.DirectSolver()
+        set_coupled_solvers(self, self.options["coupled_solver"], nn)

@@ -1,0 +1,134 @@
+"""Optimisation cost: the demo best-installed-cycle optimisation with analytic vs finite-difference derivatives."""
+
+import contextlib
+import io
+import time
+
+import numpy as np
+
+from benchmarks import FD_OPTIONS, count_approx_components, target, use_approx_partials
+from bypassopt.problems.best_cycle import build_best_cycle_problem
+
+#: Mission fuel of the demo optimum with analytic derivatives (kg), measured with this benchmark on
+#: 2025-06-11 (bypassopt 0.1.0, OpenMDAO 3.45.1, SciPy 1.17 SLSQP: BPR 10.43, FPR 1.582, OPR 54.29,
+#: T4 1650 K fixed; ground clearance and core-size limits active). Regression check: the optimum must
+#: stay within ``REGRESSION_RTOL`` of it; a deliberate model change updates this value.
+EXPECTED_MISSION_FUEL = 15859.55
+REGRESSION_RTOL = 0.01
+#: Targets: analytic at least 3x faster in wall time than FD, optima equal within 0.01 %.
+SPEEDUP_TARGET = 3.0
+OPTIMUM_RTOL = 1.0e-4
+#: Iteration cap of the quick (smoke-test) mode: it exercises the code paths, not convergence.
+QUICK_MAXITER = 1
+
+#: Derivative variants compared, in the order run.
+VARIANTS = ("analytic", "fd_totals", "fd_partials")
+
+
+def build_optimization_problem(derivatives="analytic", maxiter=None):
+    """The demo best-installed-cycle problem (``build_best_cycle_problem``) with the chosen derivatives.
+
+    Parameters
+    ----------
+    derivatives : str
+        'analytic' (as shipped); 'fd_totals': ``model.approx_totals(method='fd')`` (the driver's
+        gradients by forward differences of the converged model, whose Newton solver still uses the
+        analytic partials); 'fd_partials': every component's partials replaced by forward differences
+        (``benchmarks.use_approx_partials``), so no analytic derivative is used anywhere, the Newton
+        solver included. FD settings are ``benchmarks.FD_OPTIONS``.
+    maxiter : int or None
+        Override of the optimizer's iteration limit.
+    """
+    prob = build_best_cycle_problem()
+    if maxiter is not None:
+        prob.driver.options["maxiter"] = maxiter
+    if derivatives == "fd_totals":
+        # approx_totals only sets attributes that final_setup reads, so it may follow setup.
+        prob.model.approx_totals(method="fd", **FD_OPTIONS)
+    elif derivatives == "fd_partials":
+        use_approx_partials(prob, "fd", **FD_OPTIONS)
+    elif derivatives != "analytic":
+        raise ValueError(f"derivatives = {derivatives!r} is not one of {', '.join(VARIANTS)}")
+    return prob
+
+
+def _optimize(derivatives, maxiter):
+    prob = build_optimization_problem(derivatives, maxiter)
+    # time spent in the driver's gradient evaluations (Driver._compute_totals, wrapped on this instance)
+    gradient_s = [0.0]
+    compute_totals = prob.driver._compute_totals
+
+    def timed_totals(*args, **kwargs):
+        g0 = time.perf_counter()
+        try:
+            return compute_totals(*args, **kwargs)
+        finally:
+            gradient_s[0] += time.perf_counter() - g0
+
+    prob.driver._compute_totals = timed_totals
+    t0, c0 = time.perf_counter(), time.process_time()
+    with contextlib.redirect_stdout(io.StringIO()):  # SciPy's closing message
+        result = prob.run_driver()
+    seconds, cpu_seconds = time.perf_counter() - t0, time.process_time() - c0
+    if derivatives == "fd_partials" and count_approx_components(prob) == 0:
+        raise RuntimeError("fd_partials: the finite-difference partials did not take")
+    fan = prob.model.cycle.fan
+    return {"seconds": seconds, "cpu_seconds": cpu_seconds, "gradient_seconds": gradient_s[0],
+            "success": bool(result.success), "iterations": int(result.iter_count),
+            "model_evals": int(result.model_evals), "deriv_evals": int(result.deriv_evals),
+            # every evaluation of one element (Newton iterations, line searches, FD perturbations of
+            # totals or partials included): the work actually done
+            "fan_evaluations": int(fan.iter_count + fan.iter_count_apply),
+            "mission_fuel_kg": float(prob.get_val("mission_fuel", units="kg")[0]),
+            "design": {name: float(prob.get_val(name)[0]) for name in ("BPR", "FPR", "OPR", "Tt4")}}
+
+
+def _counts(r):
+    return (f"{r['iterations']} / ({r['model_evals']}, {r['deriv_evals']}) / {r['fan_evaluations']} / "
+            f"{r['seconds']:.1f} s ({r['gradient_seconds']:.1f} s in gradients)")
+
+
+def run(quick=False):
+    """Run the optimisation with each derivative variant; return counts, times, ratios and verdicts.
+
+    In the full run the analytic optimum is also asserted against ``EXPECTED_MISSION_FUEL``
+    (regression check); the quick run stops after ``QUICK_MAXITER`` iterations and asserts nothing.
+    """
+    t0 = time.perf_counter()
+    maxiter = QUICK_MAXITER if quick else None
+    results = {name: _optimize(name, maxiter) for name in VARIANTS}
+    an = results["analytic"]
+    if not quick:
+        assert an["success"], "analytic optimisation did not converge"
+        np.testing.assert_allclose(an["mission_fuel_kg"], EXPECTED_MISSION_FUEL, rtol=REGRESSION_RTOL,
+                                   err_msg="demo optimum moved: update EXPECTED_MISSION_FUEL if intended")
+    rows, targets = [], []
+    rows.append(("analytic: iterations / driver evals (f, grad) / fan evals / wall",
+                 _counts(an), f"mission fuel {an['mission_fuel_kg']:.2f} kg"))
+    for name, label in (("fd_totals", "FD totals"), ("fd_partials", "FD partials")):
+        r = results[name]
+        r["time_ratio_vs_analytic"] = r["seconds"] / an["seconds"]
+        r["cpu_time_ratio_vs_analytic"] = r["cpu_seconds"] / an["cpu_seconds"]
+        r["optimum_rel_diff"] = abs(r["mission_fuel_kg"] - an["mission_fuel_kg"]) / an["mission_fuel_kg"]
+        rows.append((f"{label}: iterations / driver evals (f, grad) / fan evals / wall",
+                     _counts(r),
+                     f"{r['time_ratio_vs_analytic']:.1f}x analytic (CPU time {r['cpu_time_ratio_vs_analytic']:.1f}x); "
+                     "optimum differs by "
+                     f"{100 * r['optimum_rel_diff']:.1e} %"))
+        targets.append(target(f"analytic >= 3x faster than {label}", f"{r['time_ratio_vs_analytic']:.1f}x",
+                              f">= {SPEEDUP_TARGET:g}x", r["time_ratio_vs_analytic"] >= SPEEDUP_TARGET,
+                              "quick run: one iteration only" if quick else
+                              f"CPU-time ratio {r['cpu_time_ratio_vs_analytic']:.1f}x"))
+        targets.append(target(f"same optimum with {label}", f"{100 * r['optimum_rel_diff']:.1e} %",
+                              "<= 0.01 %", r["optimum_rel_diff"] <= OPTIMUM_RTOL and r["success"],
+                              "" if r["success"] else "optimizer did not report success"))
+    if not quick:
+        targets.append(target("analytic optimum matches the stored regression value",
+                              f"{an['mission_fuel_kg']:.2f} kg", f"{EXPECTED_MISSION_FUEL} kg +- 1 %", True))
+    return {"benchmark": "optimization_cost", "quick": quick, "seconds": time.perf_counter() - t0,
+            "fd_options": FD_OPTIONS, "results": results, "rows": rows, "targets": targets}
+
+
+if __name__ == "__main__":  # pragma: no cover
+    import json
+    print(json.dumps(run(quick=False), indent=1, default=str))
