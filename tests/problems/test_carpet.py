@@ -181,3 +181,18 @@ def test_carpet_plot(optimal_carpet, fixed_carpet, tmp_path):
         plot_carpet(result, tmp_path / name, optimum=optimum)
         data = (tmp_path / name).read_bytes()
         assert data[:8] == b"\x89PNG\r\n\x1a\n" and len(data) > 20000
+
+
+def test_node_sum_comp_partials():
+    """NodeSumComp: the sum and its constant partials (complex step)."""
+    from openmdao.utils.assert_utils import assert_check_partials
+
+    from bypassopt.problems.carpet import NodeSumComp
+
+    prob = om.Problem(reports=False)
+    prob.model.add_subsystem("s", NodeSumComp(num_nodes=4, units="kg"), promotes=["*"])
+    prob.setup(force_alloc_complex=True)
+    prob.set_val("values", [1.0, 2.5, -3.0, 4.0])
+    prob.run_model()
+    assert prob.get_val("total")[0] == pytest.approx(4.5, rel=1e-15)
+    assert_check_partials(prob.check_partials(method="cs", out_stream=None), atol=1e-12, rtol=1e-12)
