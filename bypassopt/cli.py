@@ -543,31 +543,37 @@ def cmd_optimize(run, scenario):
     return summary, EXIT_OK
 
 
-def cmd_carpet(run, scenario):
-    """BPR x OPR carpet."""
+def _run_study(run, scenario, name, run_fn, plot_fn, rows_fn, format_fn):
+    """Run a study, write NAME.json, NAME.csv (and NAME.png), print its table; return (data, rows)."""
     from bypassopt.report import write_csv, write_json
 
-    plots = not run.args.no_plots
-    (run_carpet,) = _require("bypassopt.problems.carpet", ("run_carpet",), "the carpet command")
-    if plots:
-        _require_matplotlib("carpet.png")
-        (plot_carpet,) = _require("bypassopt.plots", ("plot_carpet",), "carpet.png (or add --no-plots)")
     run.prepare_out()
-    progress = run.progress("carpet")
+    progress = run.progress(name)
     with run.quiet_stdout():
-        result = run_carpet(scenario, progress=progress)
+        result = run_fn(scenario, progress=progress)
     progress.finish()
     data = _json_ready(result)
-    write_json(run.out_path("carpet.json"), data)
-    run.wrote(run.out_path("carpet.json"))
-    rows = carpet_rows(result)
-    write_csv(run.out_path("carpet.csv"), rows)
-    run.wrote(run.out_path("carpet.csv"))
-    if plots:
+    write_json(run.out_path(f"{name}.json"), data)
+    run.wrote(run.out_path(f"{name}.json"))
+    rows = rows_fn(result)
+    write_csv(run.out_path(f"{name}.csv"), rows)
+    run.wrote(run.out_path(f"{name}.csv"))
+    if plot_fn is not None:
         with run.quiet_stdout():
-            _write_png(run, "carpet.png", plot_carpet, result)
+            _write_png(run, f"{name}.png", plot_fn, result)
     if run.human:
-        sys.stdout.write(format_carpet(result) + "\n")
+        sys.stdout.write(format_fn(result) + "\n")
+    return data, rows
+
+
+def cmd_carpet(run, scenario):
+    """BPR x OPR carpet."""
+    (run_carpet,) = _require("bypassopt.problems.carpet", ("run_carpet",), "the carpet command")
+    plot_carpet = None
+    if not run.args.no_plots:
+        _require_matplotlib("carpet.png")
+        (plot_carpet,) = _require("bypassopt.plots", ("plot_carpet",), "carpet.png (or add --no-plots)")
+    data, _ = _run_study(run, scenario, "carpet", run_carpet, plot_carpet, carpet_rows, format_carpet)
     return data, EXIT_OK
 
 
@@ -619,30 +625,13 @@ def textwrap_fill(text):
 
 def cmd_trade(run, scenario):
     """Optimum along a sweep of one limit."""
-    from bypassopt.report import write_csv, write_json
-
-    plots = not run.args.no_plots
     _check_driver(scenario["optimizer"]["driver"])
     (run_trade_curve,) = _require("bypassopt.problems.trade_curve", ("run_trade_curve",), "the trade command")
-    if plots:
+    plot_trade_curve = None
+    if not run.args.no_plots:
         _require_matplotlib("trade.png")
         (plot_trade_curve,) = _require("bypassopt.plots", ("plot_trade_curve",), "trade.png (or add --no-plots)")
-    run.prepare_out()
-    progress = run.progress("trade")
-    with run.quiet_stdout():
-        result = run_trade_curve(scenario, progress=progress)
-    progress.finish()
-    data = _json_ready(result)
-    write_json(run.out_path("trade.json"), data)
-    run.wrote(run.out_path("trade.json"))
-    rows = trade_rows(result)
-    write_csv(run.out_path("trade.csv"), rows)
-    run.wrote(run.out_path("trade.csv"))
-    if plots:
-        with run.quiet_stdout():
-            _write_png(run, "trade.png", plot_trade_curve, result)
-    if run.human:
-        sys.stdout.write(format_trade(result) + "\n")
+    data, rows = _run_study(run, scenario, "trade", run_trade_curve, plot_trade_curve, trade_rows, format_trade)
     failed = [r for r in rows if r.get("success") is False]
     if failed:
         raise NotConverged(f"the optimizer did not converge at {len(failed)} of {len(rows)} trade points", data)

@@ -24,7 +24,7 @@ def set_coupled_solvers(group, method, num_nodes, maxiter=40):
     """
     atol = 1e-7 * np.sqrt(num_nodes)
     if method == "newton":
-        newton = group.nonlinear_solver = om.NewtonSolver(solve_subsystems=True, max_sub_solves=100,
+        newton = group.nonlinear_solver = om.NewtonSolver(solve_subsystems=True, max_sub_solves=1,
                                                           maxiter=maxiter, iprint=-1, atol=atol, rtol=1e-10,
                                                           err_on_non_converge=True)
         newton.linesearch = om.BoundsEnforceLS(bound_enforcement="scalar", iprint=-1)
