@@ -355,8 +355,16 @@ def _precheck_design(scenario, design=None, what="the scenario's initial design"
     try:
         prob.run_model()
     except om.AnalysisError as err:
-        raise UsageError(f"{what} cannot be evaluated: {err}") from err
+        raise UsageError(f"{what} cannot be evaluated: {_model_message(err)}") from err
     return prob
+
+
+def _model_message(err):
+    """The model's own message, without OpenMDAO's "'path' <class X>: Error calling compute(), " wrapper."""
+    import re
+
+    text = str(err).strip().splitlines()[-1] if str(err).strip() else repr(err)
+    return re.sub(r"^'[^']*' <class \w+>: Error calling \w+\(\), ", "", text)
 
 
 def carpet_rows(result):
