@@ -343,3 +343,26 @@ def model_inputs(scenario):
         if key in scenario.get("design_variables", {}):
             out[var] = (scenario["design_variables"][key]["initial"], "K" if key.endswith("_K") else None)
     return out
+
+
+def schema_markdown():
+    """Markdown rows (key | meaning | allowed) of every section and key, as shown in README."""
+    lines = []
+    for section, keys in SCHEMA.items():
+        lines.append(f"| **[{section}]** | | |")
+        for key, spec in keys.items():
+            kind = spec["type"]
+            if kind == "number":
+                allowed = f"{spec['lo']:g} – {spec['hi']:g}"
+            elif kind == "int":
+                allowed = f"{spec['lo']} – {spec['hi']} (integer)"
+            elif kind == "str":
+                allowed = ", ".join(spec["choices"]) if spec.get("choices") else "text"
+            elif kind == "list":
+                allowed = f"list of ≥ 2 numbers, {spec['lo']:g} – {spec['hi']:g}"
+            elif kind == "dv":
+                allowed = f"{{initial, lower, upper, optimize}}, {spec['lo']:g} – {spec['hi']:g}"
+            else:  # pragma: no cover
+                allowed = kind
+            lines.append(f"| `{key}` | {spec['desc']} | {allowed} |")
+    return "\n".join(lines)

@@ -38,3 +38,10 @@ def test_readme_example_runs(index, tmp_path):
                          text=True, timeout=600)
     assert run.returncode == 0, run.stderr[-3000:]
     assert run.stdout.strip()
+
+
+def test_readme_schema_table_is_current():
+    """README's scenario schema table is exactly what the code validates (regenerate with schema_markdown())."""
+    from bypassopt.scenario import schema_markdown
+
+    assert schema_markdown() in TEXT
