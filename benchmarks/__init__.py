@@ -6,22 +6,47 @@ the few helpers they share. Timings are reported as ratios measured side by side
 because absolute times on shared machines are noisy.
 """
 
-import statistics
-import time
-import warnings
-from pathlib import Path
-from types import MethodType
+import os
+import sys
 
-import numpy as np
-import openmdao.api as om
+# ``python -m benchmarks`` puts the checkout first on sys.path, where its bypassopt/ folder (without the
+# components/ and problems/ subpackages that the install maps into it) would shadow the installed
+# package. Move the checkout to the end: ``benchmarks`` stays importable, ``bypassopt`` comes from the install.
+_CHECKOUT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
+sys.path[:] = [p for p in sys.path if os.path.abspath(p or os.curdir) != _CHECKOUT] + [_CHECKOUT]
 
-from bypassopt.scenario import model_inputs
+import statistics  # noqa: E402
+import time  # noqa: E402
+import warnings  # noqa: E402
+from pathlib import Path  # noqa: E402
+from types import MethodType  # noqa: E402
+
+import numpy as np  # noqa: E402
+import openmdao.api as om  # noqa: E402
+
+from bypassopt.scenario import model_inputs  # noqa: E402
 
 # OpenMDAO notes that groups with a Newton solver are atomic for relevance: true, known, and noise here.
 warnings.filterwarnings("ignore", message=".*nonlinear solver that computes gradients.*")
 
 #: Repository root (the folder holding ``benchmarks/``).
 REPO_ROOT = Path(__file__).resolve().parents[1]
+
+
+def module_command(module, *args):
+    """Command line that runs ``python -m MODULE ARGS`` with the checkout's ``benchmarks`` importable.
+
+    The checkout is appended at the *end* of ``sys.path`` (and the current folder dropped from the front),
+    so ``import bypassopt`` still finds the installed package: the checkout's ``bypassopt/`` folder alone
+    lacks the ``components`` and ``problems`` subpackages that the install maps into it.
+    """
+    import sys
+
+    root = str(REPO_ROOT)
+    code = ("import runpy, sys; r = sys.argv.pop(1); "
+            "sys.path[:] = [p for p in sys.path if p not in ('', r)] + [r]; "
+            f"runpy.run_module({module!r}, run_name='__main__', alter_sys=True)")
+    return [sys.executable, "-c", code, root, *map(str, args)]
 
 #: Finite-difference settings used wherever a benchmark finite-differences: forward differences with
 #: a step of 1e-6 relative to each element (OpenMDAO's default absolute step of 1e-6 would be a

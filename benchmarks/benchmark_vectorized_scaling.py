@@ -2,7 +2,6 @@
 
 import argparse
 import json
-import os
 import resource
 import subprocess
 import sys
@@ -11,7 +10,7 @@ import time
 import numpy as np
 import openmdao.api as om
 
-from benchmarks import REPO_ROOT, set_inputs, target
+from benchmarks import module_command, set_inputs, target
 from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
 from bypassopt.problems.best_cycle import build_installed_model
 from bypassopt.scenario import load_scenario
@@ -124,12 +123,9 @@ def measure_loop(model, n):
 
 def _spawn(args, timeout=WORKER_TIMEOUT_S):
     """Run one measurement in a fresh Python process (clean peak RSS); return its JSON result."""
-    env = dict(os.environ)
-    paths = [str(REPO_ROOT)] + [p for p in env.get("PYTHONPATH", "").split(os.pathsep) if p]
-    env["PYTHONPATH"] = os.pathsep.join(paths)
-    cmd = [sys.executable, "-m", "benchmarks.benchmark_vectorized_scaling", "--worker", *map(str, args)]
+    cmd = module_command("benchmarks.benchmark_vectorized_scaling", "--worker", *args)
     try:
-        done = subprocess.run(cmd, capture_output=True, text=True, timeout=timeout, env=env)
+        done = subprocess.run(cmd, capture_output=True, text=True, timeout=timeout)
     except subprocess.TimeoutExpired:
         return {"error": f"timed out after {timeout} s"}
     if done.returncode != 0:

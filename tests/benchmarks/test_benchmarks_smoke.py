@@ -13,7 +13,8 @@ import pytest
 
 ROOT = Path(__file__).resolve().parents[2]
 if str(ROOT) not in sys.path:  # benchmarks/ is not installed: import it from the checkout
-    sys.path.insert(0, str(ROOT))
+    # appended, not prepended: the checkout's bypassopt/ folder must not shadow the installed package
+    sys.path.append(str(ROOT))
 
 NAMES = ("gradient_accuracy", "derivative_cost", "optimization_cost", "vectorized_scaling")
 RUNNER_TIMEOUT_S = 600
@@ -51,8 +52,10 @@ def test_gradient_accuracy_covers_every_component_class():
 def test_runner_quick_writes_results(tmp_path):
     """``python -m benchmarks --quick --out DIR`` exits 0 and writes latest.json and latest.md."""
     out = tmp_path / "results"
-    done = subprocess.run([sys.executable, "-m", "benchmarks", "--quick", "--out", str(out)], cwd=ROOT,
-                          capture_output=True, text=True, timeout=RUNNER_TIMEOUT_S)
+    from benchmarks import module_command
+
+    done = subprocess.run(module_command("benchmarks", "--quick", "--out", out), cwd=ROOT, capture_output=True,
+                          text=True, timeout=RUNNER_TIMEOUT_S)
     assert done.returncode == 0, done.stderr[-3000:]
     data = json.loads((out / "latest.json").read_text())
     assert set(data["benchmarks"]) == set(NAMES)
