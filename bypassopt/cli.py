@@ -360,7 +360,7 @@ def _precheck_design(scenario, design=None, what="the scenario's initial design"
 
 
 def _model_message(err):
-    """The model's own message, without OpenMDAO's "'path' <class X>: Error calling compute(), " wrapper."""
+    """Return the model's own message, without OpenMDAO's "'path' <class X>: Error calling compute()" wrapper."""
     import re
 
     text = str(err).strip().splitlines()[-1] if str(err).strip() else repr(err)

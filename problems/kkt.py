@@ -29,7 +29,8 @@ def kkt_analysis(prob, active_tol=ACTIVE_TOL):
         ``objective`` (name, units), ``constraints`` {name: {value, limit, kind, units, active, multiplier,
         shadow_price}} with shadow_price = d(objective)/d(limit) in objective units per limit unit,
         ``bounds`` {design var: {value, lower, upper, active, multiplier}}, ``projected_gradient`` (norm of
-        the Lagrangian gradient, each component times its design variable's bound range, relative to |f|) and ``complementarity`` (largest
+        the Lagrangian gradient, each component times its design variable's bound range, relative
+        to |f|) and ``complementarity`` (largest
         |lambda_i c_i| relative to |f|).
     """
     objective = prob.bypassopt_objective

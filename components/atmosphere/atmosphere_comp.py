@@ -4,7 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.validation import check_range
-from bypassopt.validation import check_positive_option as _check_positive
+from bypassopt.components.options import declare_num_nodes
 
 # Constants of ISO 2533:1975 (identical to ICAO Doc 7488/3 and US Standard Atmosphere 1976 below
 # 20 km); values as tabulated in field-reference section 1.2.
@@ -74,8 +74,7 @@ class AtmosphereComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, check_valid=_check_positive,
-                             desc="Number of flight conditions evaluated at once.")
+        declare_num_nodes(self.options)
 
     def setup(self):
         """Declare inputs and outputs."""

@@ -4,9 +4,9 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.gas.flow import total_from_static
-from bypassopt.components.gas.thermo import DRY_AIR_FAR, ThermallyPerfectGas
+from bypassopt.components.gas.thermo import DRY_AIR_FAR
 from bypassopt.validation import check_range
-from bypassopt.validation import check_positive_option as _check_positive, check_gas_option as _check_gas
+from bypassopt.components.options import declare_gas, declare_num_nodes
 
 MACH_MIN = 0.0
 """Lowest accepted flight Mach number, -."""
@@ -46,12 +46,8 @@ class FlightConditionComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, check_valid=_check_positive,
-                             desc="Number of flight conditions evaluated at once.")
-        self.options.declare("gas", types=object, default=ThermallyPerfectGas(), check_valid=_check_gas,
-                             recordable=False,
-                             desc="Gas model (ThermallyPerfectGas or CaloricallyPerfectGas from "
-                                  "bypassopt.components.gas.thermo) used for the free-stream air.")
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
 
     def setup(self):
         """Declare inputs and outputs."""

@@ -2,11 +2,10 @@
 
 import openmdao.api as om
 
-from bypassopt.validation import check_positive_option as _check_positive
 
 from bypassopt.components.atmosphere.atmosphere_comp import AtmosphereComp
-from bypassopt.components.atmosphere.flight_condition_comp import FlightConditionComp, _check_gas
-from bypassopt.components.gas.thermo import ThermallyPerfectGas
+from bypassopt.components.atmosphere.flight_condition_comp import FlightConditionComp
+from bypassopt.components.options import declare_gas, declare_num_nodes
 
 
 class FlightConditionGroup(om.Group):
@@ -23,12 +22,8 @@ class FlightConditionGroup(om.Group):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, check_valid=_check_positive,
-                             desc="Number of flight conditions evaluated at once.")
-        self.options.declare("gas", types=object, default=ThermallyPerfectGas(), check_valid=_check_gas,
-                             recordable=False,
-                             desc="Gas model (ThermallyPerfectGas or CaloricallyPerfectGas from "
-                                  "bypassopt.components.gas.thermo) used for the free-stream air.")
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
 
     def setup(self):
         """Add the atmosphere and flight-condition components."""

@@ -3,9 +3,9 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.components.gas.thermo import DRY_AIR_FAR, CaloricallyPerfectGas, ThermallyPerfectGas
+from bypassopt.components.gas.thermo import DRY_AIR_FAR, CaloricallyPerfectGas
 from bypassopt.validation import InputRangeError, check_range
-from bypassopt.validation import check_positive_option as _check_positive, check_gas_option as _check_gas
+from bypassopt.components.options import declare_gas, declare_num_nodes
 
 TT4_RANGE = (1000.0, 2400.0)
 """Accepted burner exit temperatures with a thermally perfect gas, K (upper end: dissociation)."""
@@ -60,12 +60,8 @@ class BurnerComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, check_valid=_check_positive,
-                             desc="Number of design points evaluated at once.")
-        self.options.declare("gas", types=object, default=ThermallyPerfectGas(), check_valid=_check_gas,
-                             recordable=False,
-                             desc="Gas model (ThermallyPerfectGas or CaloricallyPerfectGas from "
-                                  "bypassopt.components.gas.thermo).")
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
         self.options.declare("include_fuel_mass", types=bool, default=True,
                              desc="True: the fuel's mass and the enthalpy its products carry enter the "
                                   "energy balance; False: textbook ideal-cycle form f = dh_air/(eta*LHV).")

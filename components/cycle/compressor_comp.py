@@ -4,9 +4,9 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.gas.processes import polytropic_compression
-from bypassopt.components.gas.thermo import DRY_AIR_FAR, ThermallyPerfectGas
+from bypassopt.components.gas.thermo import DRY_AIR_FAR
 from bypassopt.validation import InputRangeError, check_range
-from bypassopt.validation import check_positive_option as _check_positive, check_gas_option as _check_gas
+from bypassopt.components.options import declare_gas, declare_num_nodes
 
 PR_MAX = 100.0
 """Highest accepted compressor pressure ratio and OPR, -."""
@@ -54,12 +54,8 @@ class CompressorComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, check_valid=_check_positive,
-                             desc="Number of design points evaluated at once.")
-        self.options.declare("gas", types=object, default=ThermallyPerfectGas(), check_valid=_check_gas,
-                             recordable=False,
-                             desc="Gas model (ThermallyPerfectGas or CaloricallyPerfectGas from "
-                                  "bypassopt.components.gas.thermo).")
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
         self.options.declare("station_in", types=str, default="25",
                              desc="Station number of the compressor entry (variables Tt<n>, Pt<n>).")
         self.options.declare("station_out", types=str, default="3",

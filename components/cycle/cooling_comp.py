@@ -3,9 +3,8 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.validation import InputRangeError, check_range
-from bypassopt.validation import check_positive_option as _check_positive, check_gas_option as _check_gas
+from bypassopt.components.options import declare_gas, declare_num_nodes
 
 SMOOTHING = 1e-4
 r"""Square of the width of the smooth non-negative part, :math:`x_+ = (x + \sqrt{x^2 + 10^{-4}})/2`, -."""
@@ -71,12 +70,8 @@ class CoolingBleedComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, check_valid=_check_positive,
-                             desc="Number of design points evaluated at once.")
-        self.options.declare("gas", types=object, default=ThermallyPerfectGas(), check_valid=_check_gas,
-                             recordable=False,
-                             desc="Gas model (ThermallyPerfectGas or CaloricallyPerfectGas from "
-                                  "bypassopt.components.gas.thermo); used for the temperature range checks.")
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
         self.options.declare("cooling_model", default="given", values=("given", "correlation"),
                              desc="'given': cooling fractions are inputs; 'correlation': from the "
                                   "Horlock/El-Masri convective-cooling correlation.")

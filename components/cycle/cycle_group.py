@@ -5,7 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.atmosphere.flight_condition_group import FlightConditionGroup
 from bypassopt.components.coupled_solver import COUPLED_SOLVERS, set_coupled_solvers
-from bypassopt.components.gas.thermo import ThermallyPerfectGas
+from bypassopt.components.options import declare_gas, declare_num_nodes
 
 from .burner_comp import BurnerComp
 from .compressor_comp import CompressorComp
@@ -53,9 +53,8 @@ class TurbofanCycleGroup(om.Group):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, desc="number of design points evaluated at once")
-        self.options.declare("gas", default=ThermallyPerfectGas(), types=object, recordable=False,
-                             desc="working-gas model used by every element")
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
         self.options.declare("include_fuel_mass", types=bool, default=True,
                              desc="include the fuel mass in the flows (False: textbook ideal cycle)")
         self.options.declare("nozzle_expansion", default="convergent", values=("convergent", "full"),

@@ -3,9 +3,8 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.validation import check_range
-from bypassopt.validation import check_positive_option as _check_positive, check_gas_option as _check_gas
+from bypassopt.components.options import declare_gas, declare_num_nodes
 
 DPQP_MAX = 0.2
 """Largest accepted duct total-pressure loss fraction, -."""
@@ -34,12 +33,8 @@ class DuctComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, check_valid=_check_positive,
-                             desc="Number of design points evaluated at once.")
-        self.options.declare("gas", types=object, default=ThermallyPerfectGas(), check_valid=_check_gas,
-                             recordable=False,
-                             desc="Gas model (ThermallyPerfectGas or CaloricallyPerfectGas from "
-                                  "bypassopt.components.gas.thermo); used for the temperature range check.")
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
         self.options.declare("station_in", types=str, default="13",
                              desc="Station number of the duct entry (variables Tt<n>, Pt<n>).")
         self.options.declare("station_out", types=str, default="17",

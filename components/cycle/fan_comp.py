@@ -4,9 +4,9 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.gas.processes import polytropic_compression
-from bypassopt.components.gas.thermo import DRY_AIR_FAR, ThermallyPerfectGas
+from bypassopt.components.gas.thermo import DRY_AIR_FAR
 from bypassopt.validation import InputRangeError, check_range
-from bypassopt.validation import check_positive_option as _check_positive, check_gas_option as _check_gas
+from bypassopt.components.options import declare_gas, declare_num_nodes
 
 FPR_MIN = 1.0
 """FPR must be above this value (a fan compresses), -."""
@@ -48,12 +48,8 @@ class FanComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, check_valid=_check_positive,
-                             desc="Number of design points evaluated at once.")
-        self.options.declare("gas", types=object, default=ThermallyPerfectGas(), check_valid=_check_gas,
-                             recordable=False,
-                             desc="Gas model (ThermallyPerfectGas or CaloricallyPerfectGas from "
-                                  "bypassopt.components.gas.thermo).")
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
         self.options.declare("core_side_ratio", default="equal", values=("equal", "input"),
                              desc="'equal': the core-side stream has the bypass pressure ratio FPR; "
                                   "'input': its pressure ratio is the input fan_core_PR.")

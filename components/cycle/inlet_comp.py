@@ -3,9 +3,8 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.validation import check_range
-from bypassopt.validation import check_positive_option as _check_positive, check_gas_option as _check_gas
+from bypassopt.components.options import declare_gas, declare_num_nodes
 
 RECOVERY_MIN = 0.8
 """Lowest accepted intake total-pressure recovery, -."""
@@ -32,12 +31,8 @@ class InletComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, check_valid=_check_positive,
-                             desc="Number of design points evaluated at once.")
-        self.options.declare("gas", types=object, default=ThermallyPerfectGas(), check_valid=_check_gas,
-                             recordable=False,
-                             desc="Gas model (ThermallyPerfectGas or CaloricallyPerfectGas from "
-                                  "bypassopt.components.gas.thermo); used for the temperature range check.")
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
 
     def setup(self):
         """Declare inputs and outputs."""

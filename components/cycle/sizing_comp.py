@@ -4,6 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.validation import check_range
+from bypassopt.components.options import declare_num_nodes
 
 #: Reference state of corrected flows: ISO 2533 sea-level temperature and pressure.
 T_STD = 288.15
@@ -25,7 +26,7 @@ class SizingComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, desc="number of design points evaluated at once")
+        declare_num_nodes(self.options)
 
     def setup(self):
         """Declare inputs and outputs."""

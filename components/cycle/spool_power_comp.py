@@ -4,7 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.validation import InputRangeError, check_range
-from bypassopt.validation import check_positive_option as _check_positive
+from bypassopt.components.options import declare_num_nodes
 
 BPR_MAX = 30.0
 """Highest accepted bypass ratio, -."""
@@ -42,8 +42,7 @@ class SpoolPowerComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, check_valid=_check_positive,
-                             desc="Number of design points evaluated at once.")
+        declare_num_nodes(self.options)
         self.options.declare("spool", default="HP", values=("HP", "LP"),
                              desc="Spool whose power demand is computed: 'HP' (HP compressor and "
                                   "offtake) or 'LP' (fan and booster; also outputs core_flow_frac).")

@@ -4,9 +4,8 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.gas.processes import expansion_from_work
-from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.validation import InputRangeError, check_range
-from bypassopt.validation import check_positive_option as _check_positive, check_gas_option as _check_gas
+from bypassopt.components.options import declare_gas, declare_num_nodes
 
 
 class TurbineComp(om.ExplicitComponent):
@@ -39,12 +38,8 @@ class TurbineComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, check_valid=_check_positive,
-                             desc="Number of design points evaluated at once.")
-        self.options.declare("gas", types=object, default=ThermallyPerfectGas(), check_valid=_check_gas,
-                             recordable=False,
-                             desc="Gas model (ThermallyPerfectGas or CaloricallyPerfectGas from "
-                                  "bypassopt.components.gas.thermo).")
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
         self.options.declare("station_in", types=str, default="41", desc="Station number at turbine entry.")
         self.options.declare("station_out", types=str, default="44", desc="Station number at turbine exit.")
         self.options.declare("name", default="hpt", values=("hpt", "lpt"),

@@ -4,6 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.validation import check_range
+from bypassopt.components.options import declare_num_nodes
 
 #: Fan module mass (blades, disc, case, containment) of a 2.0 m fan, kg (common-practice calibration).
 C_FAN = 1050.0
@@ -72,8 +73,7 @@ class EngineMassComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, lower=1,
-                             desc="Number of evaluation points (vectorisation length)")
+        declare_num_nodes(self.options)
         self.options.declare("include_lp_turbine", types=bool, default=True,
                              desc="If False, there is no LP_shaft_power input and the LP turbine "
                                   "and shafts term is zero (for use before a cycle is connected)")

@@ -4,8 +4,8 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.gas.flow import static_from_total
-from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.validation import check_range
+from bypassopt.components.options import declare_gas, declare_num_nodes
 
 
 class FanSizingComp(om.ExplicitComponent):
@@ -31,9 +31,8 @@ class FanSizingComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, desc="number of design points evaluated at once")
-        self.options.declare("gas", default=ThermallyPerfectGas(), types=object, recordable=False,
-                             desc="working-gas model (ThermallyPerfectGas or CaloricallyPerfectGas)")
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
 
     def setup(self):
         """Declare inputs and outputs."""

@@ -5,8 +5,8 @@ import openmdao.api as om
 
 from bypassopt.components.coupled_solver import COUPLED_SOLVERS, set_coupled_solvers
 from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
-from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
+from bypassopt.components.options import declare_gas, declare_num_nodes
 
 from .engine_mass_comp import EngineMassComp
 from .fan_sizing_comp import FanSizingComp
@@ -40,9 +40,8 @@ class InstalledEngineGroup(om.Group):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, desc="number of designs evaluated at once")
-        self.options.declare("gas", default=ThermallyPerfectGas(), types=object, recordable=False,
-                             desc="working-gas model")
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
         self.options.declare("cooling_model", default="correlation", values=("given", "correlation"),
                              desc="turbine cooling fractions given, or from the cooling correlation")
         self.options.declare("include_mission", types=bool, default=True,

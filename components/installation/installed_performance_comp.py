@@ -4,6 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.validation import InputRangeError, check_range
+from bypassopt.components.options import declare_num_nodes
 
 
 class InstalledPerformanceComp(om.ExplicitComponent):
@@ -22,7 +23,7 @@ class InstalledPerformanceComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, desc="number of design points evaluated at once")
+        declare_num_nodes(self.options)
 
     def setup(self):
         """Declare inputs and outputs."""

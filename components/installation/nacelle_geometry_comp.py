@@ -4,6 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.validation import check_range
+from bypassopt.components.options import declare_num_nodes
 
 # (name, default, lower, upper, units, desc) for every input, in declaration order.
 _INPUTS = (
@@ -97,8 +98,7 @@ class NacelleGeometryComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, lower=1,
-                             desc="Number of evaluation points (vectorisation length)")
+        declare_num_nodes(self.options)
 
     def setup(self):
         """Declare inputs and outputs."""

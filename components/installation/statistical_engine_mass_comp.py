@@ -4,6 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.validation import check_range
+from bypassopt.components.options import declare_num_nodes
 
 #: Coefficient of the SI form, kg/kN**1.1 (Raymer, from memory; 0.084 lb/lbf**1.1 in English units).
 RAYMER_COEFF = 14.7
@@ -35,8 +36,7 @@ class StatisticalEngineMassComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, lower=1,
-                             desc="Number of evaluation points (vectorisation length)")
+        declare_num_nodes(self.options)
 
     def setup(self):
         """Declare inputs and outputs."""

@@ -4,6 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.validation import check_range
+from bypassopt.components.options import declare_num_nodes
 
 #: Standard acceleration of gravity, m/s**2 (ISO 80000-3 / CGPM 1901).
 G0 = 9.80665
@@ -79,8 +80,7 @@ class MissionFuelComp(om.ExplicitComponent):
 
     def initialize(self):
         """Declare options."""
-        self.options.declare("num_nodes", types=int, default=1, lower=1,
-                             desc="Number of evaluation points (vectorisation length)")
+        declare_num_nodes(self.options)
         self.options.declare("num_engines", types=int, default=2, lower=1,
                              desc="Number of engines on the aircraft")
 
