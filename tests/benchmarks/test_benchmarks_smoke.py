@@ -20,12 +20,6 @@ NAMES = ("gradient_accuracy", "derivative_cost", "optimization_cost", "vectorize
 RUNNER_TIMEOUT_S = 600
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 @pytest.mark.parametrize("name", NAMES)
 def test_benchmark_runs_quick(name):
     """run(quick=True) returns its measurements, table rows and target verdicts."""

@@ -33,12 +33,6 @@ WING_RANGES = {"takeoff_mass": (60e3, 90e3), "wing_loading": (450.0, 750.0),
                "airframe_fixed_mass": (30e3, 36e3), "wing_mass_per_area": (35.0, 60.0)}
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 @pytest.fixture(scope="module")
 def sized():
     """The demo aircraft sized at the scenario's starting design (analysis only)."""

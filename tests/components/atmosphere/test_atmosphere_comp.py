@@ -20,12 +20,6 @@ PARTIALS_TOL = 1e-10
 SEED = 20240611
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _run(altitude, dT_isa=0.0):
     altitude = np.atleast_1d(np.asarray(altitude, dtype=float))
     nn = altitude.size

@@ -24,12 +24,6 @@ PARTIALS_TOL = 1e-10
 SEED = 31415
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _comp_problem(Ts, Ps, Mach, mu=1.6e-5, gas=None):
     Ts = np.atleast_1d(np.asarray(Ts, dtype=float))
     nn = Ts.size

@@ -27,12 +27,6 @@ HPC = {"station_in": "25", "station_out": "3", "name": "hpc"}
 BOOSTER = {"station_in": "21", "station_out": "25", "name": "booster"}
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(nn=1, gas=None, ratio_from="PR", stations=None):
     prob = om.Problem(reports=False)
     kwargs = dict(stations or HPC)

@@ -20,12 +20,6 @@ PARTIALS_TOL = 1e-10
 SEED = 1729
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(nn=1, gas=None, **opts):
     kwargs = {} if gas is None else {"gas": gas}
     prob = om.Problem(reports=False)

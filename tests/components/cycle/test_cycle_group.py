@@ -59,12 +59,6 @@ def build(nn=1, gas=None, **opts):
     return prob
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 @pytest.fixture(scope="module")
 def ideal_grid():
     """Ideal cycle over a grid of BPR, FPR, OPR, T4 and Mach, one vectorized run."""

@@ -17,12 +17,6 @@ GAS_IDS = ["thermally_perfect", "calorically_perfect"]
 STATIONS = [("13", "17", "bypass_duct"), ("5", "7", "core_duct")]
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(nn=1, gas=None, station_in="13", station_out="17", name="bypass_duct"):
     prob = om.Problem(reports=False)
     kwargs = {} if gas is None else {"gas": gas}

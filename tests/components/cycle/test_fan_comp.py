@@ -24,12 +24,6 @@ GASES = [ThermallyPerfectGas(), CaloricallyPerfectGas(cp=CP, gamma=GAMMA)]
 GAS_IDS = ["thermally_perfect", "calorically_perfect"]
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(nn=1, gas=None, core_side_ratio="equal"):
     prob = om.Problem(reports=False)
     kwargs = {} if gas is None else {"gas": gas}

@@ -16,12 +16,6 @@ GASES = [ThermallyPerfectGas(), CaloricallyPerfectGas(cp=1004.0, gamma=1.4)]
 GAS_IDS = ["thermally_perfect", "calorically_perfect"]
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(nn=1, gas=None):
     prob = om.Problem(reports=False)
     kwargs = {} if gas is None else {"gas": gas}

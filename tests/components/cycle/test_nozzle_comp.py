@@ -25,12 +25,6 @@ SEED = 4242
 STATIONS = {"core": ("7", "8", "core_nozzle"), "bypass": ("17", "18", "bypass_nozzle")}
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(nn=1, gas=None, stream="core", expansion="convergent"):
     si, st, _ = STATIONS[stream]
     kwargs = {} if gas is None else {"gas": gas}

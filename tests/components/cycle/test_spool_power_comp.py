@@ -17,12 +17,6 @@ PARTIALS_TOL = 1e-10
 SEED = 2718
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(spool, nn=1, **values):
     prob = om.Problem(reports=False)
     prob.model.add_subsystem("spool", SpoolPowerComp(num_nodes=nn, spool=spool), promotes=["*"])

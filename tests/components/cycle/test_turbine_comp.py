@@ -22,12 +22,6 @@ PARTIALS_TOL = 1e-10
 SEED = 1618
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(nn=1, gas=None, name="hpt", spool="HP", station_in="41", station_out="44"):
     kwargs = {} if gas is None else {"gas": gas}
     prob = om.Problem(reports=False)

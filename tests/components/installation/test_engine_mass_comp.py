@@ -27,12 +27,6 @@ RANDOM_RANGES = {
 }
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(nn=1, include_lp_turbine=True, **values):
     prob = om.Problem()
     prob.model.add_subsystem("mass", EngineMassComp(num_nodes=nn, include_lp_turbine=include_lp_turbine),

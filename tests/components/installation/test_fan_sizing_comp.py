@@ -28,12 +28,6 @@ RANDOM_RANGES = {
 }
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(nn=1, gas=None, **values):
     prob = om.Problem(reports=False)
     prob.model.add_subsystem("fan", FanSizingComp(num_nodes=nn, gas=gas or ThermallyPerfectGas()),

@@ -32,12 +32,6 @@ COMPARED = ("W2", "Fn_required", "nacelle_drag", "installed_TSFC", "fan_tip_diam
             "clearance_margin", "mission_fuel")
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def build(nn=1, **overrides):
     """Installed engine at the demo operating point (values may be overridden)."""
     prob = om.Problem(reports=False)

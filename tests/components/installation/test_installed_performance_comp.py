@@ -18,12 +18,6 @@ RANDOM_RANGES = {
 }
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(nn=1, **values):
     prob = om.Problem(reports=False)
     prob.model.add_subsystem("inst", InstalledPerformanceComp(num_nodes=nn), promotes=["*"])

@@ -30,12 +30,6 @@ RANDOM_RANGES = {
 }
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(nn=1, **values):
     prob = om.Problem()
     prob.model.add_subsystem("geom", NacelleGeometryComp(num_nodes=nn), promotes=["*"])

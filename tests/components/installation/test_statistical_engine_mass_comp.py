@@ -17,12 +17,6 @@ PARTIALS_TOL = 1e-10
 SEED = 2718
 
 
-@pytest.fixture(autouse=True)
-def _in_tmp_path(tmp_path, monkeypatch):
-    """Run each test in a temporary folder so OpenMDAO's output folders never land in the working copy."""
-    monkeypatch.chdir(tmp_path)
-
-
 def _problem(thrust, bpr):
     thrust = np.atleast_1d(np.asarray(thrust, dtype=float))
     prob = om.Problem()
