@@ -457,7 +457,7 @@ def _print_files(run):
 
 def cmd_evaluate(run, scenario):
     """Evaluate one design."""
-    from bypassopt.report import design_summary, format_summary, summary_rows, write_csv, write_json, write_text
+    from bypassopt.report import design_summary
     from bypassopt.scenario import DESIGN_VARIABLES
 
     args = run.args
@@ -474,11 +474,19 @@ def cmd_evaluate(run, scenario):
         prob = _precheck_design(scenario, design, "this design")
         summary = design_summary(prob)
     run.prepare_out()
-    write_json(run.out_path("design.json"), summary)
-    run.wrote(run.out_path("design.json"))
-    write_csv(run.out_path("design.csv"), [{"name": "caution", "value": CAUTION, "units": ""}]
+    _write_summary_files(run, summary, "design")
+    return summary, EXIT_OK
+
+
+def _write_summary_files(run, summary, stem):
+    """Write STEM.json, STEM.csv, stations.csv and summary.txt of a design summary; print the report."""
+    from bypassopt.report import format_summary, summary_rows, write_csv, write_json, write_text
+
+    write_json(run.out_path(f"{stem}.json"), summary)
+    run.wrote(run.out_path(f"{stem}.json"))
+    write_csv(run.out_path(f"{stem}.csv"), [{"name": "caution", "value": CAUTION, "units": ""}]
               + summary_rows(summary))
-    run.wrote(run.out_path("design.csv"))
+    run.wrote(run.out_path(f"{stem}.csv"))
     write_csv(run.out_path("stations.csv"), summary["stations"])
     run.wrote(run.out_path("stations.csv"))
     text = format_summary(summary)
@@ -486,14 +494,12 @@ def cmd_evaluate(run, scenario):
     run.wrote(run.out_path("summary.txt"))
     if run.human:
         sys.stdout.write(text + "\n")
-    return summary, EXIT_OK
 
 
 def cmd_optimize(run, scenario):
     """Best installed cycle with reports and plots."""
     from bypassopt.problems.best_cycle import OBJECTIVES, build_best_cycle_problem
-    from bypassopt.report import (format_summary, optimum_summary, settle_at_optimum, summary_rows, write_csv,
-                                  write_json, write_text)
+    from bypassopt.report import optimum_summary, settle_at_optimum
 
     args = run.args
     _check_driver(args.driver or scenario["optimizer"]["driver"])
@@ -520,18 +526,7 @@ def cmd_optimize(run, scenario):
         prob.cleanup()
     progress.finish("converged" if result.success else "stopped without converging")
     run.wrote(history)
-    write_json(run.out_path("optimum.json"), summary)
-    run.wrote(run.out_path("optimum.json"))
-    write_csv(run.out_path("optimum.csv"), [{"name": "caution", "value": CAUTION, "units": ""}]
-              + summary_rows(summary))
-    run.wrote(run.out_path("optimum.csv"))
-    write_csv(run.out_path("stations.csv"), summary["stations"])
-    run.wrote(run.out_path("stations.csv"))
-    text = format_summary(summary)
-    write_text(run.out_path("summary.txt"), text)
-    run.wrote(run.out_path("summary.txt"))
-    if run.human:
-        sys.stdout.write(text + "\n")
+    _write_summary_files(run, summary, "optimum")
     if plots:
         with run.quiet_stdout():
             _write_png(run, "convergence.png", plot_convergence, history)
