@@ -33,20 +33,6 @@ def _problem(nn=1, gas=None, core_side_ratio="equal"):
     return prob
 
 
-def _cantera_air_enthalpy(T):
-    """Sensible enthalpy of 4-species dry air (J/kg) from Cantera's nasa_gas.yaml (NASA TM-4513 data)."""
-    ct = pytest.importorskip("cantera")
-    spc = {s.name: s for s in ct.Species.list_from_file("nasa_gas.yaml")}
-    air = ct.Solution(thermo="ideal-gas", species=[spc[n] for n in ("N2", "O2", "Ar", "CO2")])
-    # Dry air, 1976 US / ISO 2533 composition reduced to four species (field-reference 2.3).
-    X = {"N2": 0.780863, "O2": 0.209482, "Ar": 0.009340, "CO2": 0.000314}
-    h = []
-    for Ti in np.atleast_1d(T):
-        air.TPX = float(Ti), 101325.0, X
-        h.append(air.enthalpy_mass)
-    return np.array(h)
-
-
 def test_thermally_perfect_check_values():
     """Thermally perfect gas: field-reference 3.2 check values.
 
@@ -69,7 +55,7 @@ def test_thermally_perfect_check_values():
     np.testing.assert_allclose(prob.get_val("Pt21"), 1.5 * 101325.0, rtol=RTOL_EXACT)
 
 
-def test_work_equals_cantera_enthalpy_rise():
+def test_work_equals_cantera_enthalpy_rise(cantera_air_enthalpy):
     """Conservation: the work is the enthalpy rise h(Tt_out) - h(Tt2), here from Cantera (nasa_gas.yaml)."""
     nn = 3
     prob = _problem(nn, ThermallyPerfectGas(), core_side_ratio="input")
@@ -78,9 +64,9 @@ def test_work_equals_cantera_enthalpy_rise():
     prob.set_val("FPR", [1.35, 1.6, 2.2])
     prob.set_val("fan_core_PR", [1.2, 1.4, 1.9])
     prob.run_model()
-    h2 = _cantera_air_enthalpy(Tt2)
+    h2 = cantera_air_enthalpy(Tt2)
     for T_name, w_name in (("Tt13", "fan_bypass_work"), ("Tt21", "fan_core_work")):
-        dh = _cantera_air_enthalpy(prob.get_val(T_name)) - h2
+        dh = cantera_air_enthalpy(prob.get_val(T_name)) - h2
         np.testing.assert_allclose(prob.get_val(w_name), dh, rtol=RTOL_CANTERA)
 
 
