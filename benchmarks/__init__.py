@@ -6,25 +6,17 @@ the few helpers they share. Timings are reported as ratios measured side by side
 because absolute times on shared machines are noisy.
 """
 
-import os
+import statistics
 import sys
+import time
+import warnings
+from pathlib import Path
+from types import MethodType
 
-# ``python -m benchmarks`` puts the checkout first on sys.path, where its bypassopt/ folder (without the
-# components/ and problems/ subpackages that the install maps into it) would shadow the installed
-# package. Move the checkout to the end: ``benchmarks`` stays importable, ``bypassopt`` comes from the install.
-_CHECKOUT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
-sys.path[:] = [p for p in sys.path if os.path.abspath(p or os.curdir) != _CHECKOUT] + [_CHECKOUT]
+import numpy as np
+import openmdao.api as om
 
-import statistics  # noqa: E402
-import time  # noqa: E402
-import warnings  # noqa: E402
-from pathlib import Path  # noqa: E402
-from types import MethodType  # noqa: E402
-
-import numpy as np  # noqa: E402
-import openmdao.api as om  # noqa: E402
-
-from bypassopt.scenario import model_inputs  # noqa: E402
+from bypassopt.scenario import model_inputs
 
 # OpenMDAO notes that groups with a Newton solver are atomic for relevance: true, known, and noise here.
 warnings.filterwarnings("ignore", message=".*nonlinear solver that computes gradients.*")
@@ -34,19 +26,12 @@ REPO_ROOT = Path(__file__).resolve().parents[1]
 
 
 def module_command(module, *args):
-    """Command line that runs ``python -m MODULE ARGS`` with the checkout's ``benchmarks`` importable.
+    """Command line that runs ``python -m MODULE ARGS``; run it with ``cwd=REPO_ROOT`` so ``benchmarks`` imports.
 
-    The checkout is appended at the *end* of ``sys.path`` (and the current folder dropped from the front),
-    so ``import bypassopt`` still finds the installed package: the checkout's ``bypassopt/`` folder alone
-    lacks the ``components`` and ``problems`` subpackages that the install maps into it.
+    The package's own modules live under ``src/``, so the checkout's root on ``sys.path`` shadows nothing:
+    ``import bypassopt`` finds the installed package.
     """
-    import sys
-
-    root = str(REPO_ROOT)
-    code = ("import runpy, sys; r = sys.argv.pop(1); "
-            "sys.path[:] = [p for p in sys.path if p not in ('', r)] + [r]; "
-            f"runpy.run_module({module!r}, run_name='__main__', alter_sys=True)")
-    return [sys.executable, "-c", code, root, *map(str, args)]
+    return [sys.executable, "-m", module, *map(str, args)]
 
 #: Finite-difference settings used wherever a benchmark finite-differences: forward differences with
 #: a step of 1e-6 relative to each element (OpenMDAO's default absolute step of 1e-6 would be a

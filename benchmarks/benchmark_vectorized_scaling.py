@@ -10,7 +10,7 @@ import time
 import numpy as np
 import openmdao.api as om
 
-from benchmarks import module_command, set_inputs, target
+from benchmarks import REPO_ROOT, module_command, set_inputs, target
 from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
 from bypassopt.problems.best_cycle import build_installed_model
 from bypassopt.scenario import load_scenario
@@ -125,7 +125,7 @@ def _spawn(args, timeout=WORKER_TIMEOUT_S):
     """Run one measurement in a fresh Python process (clean peak RSS); return its JSON result."""
     cmd = module_command("benchmarks.benchmark_vectorized_scaling", "--worker", *args)
     try:
-        done = subprocess.run(cmd, capture_output=True, text=True, timeout=timeout)
+        done = subprocess.run(cmd, cwd=REPO_ROOT, capture_output=True, text=True, timeout=timeout)
     except subprocess.TimeoutExpired:
         return {"error": f"timed out after {timeout} s"}
     if done.returncode != 0:

@@ -1,7 +1,7 @@
 """Options every bypassopt component declares the same way: the vectorisation length and the gas model."""
 
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
-from bypassopt.validation import check_gas_option, check_positive_option
+from bypassopt.components.validation import check_gas_option, check_positive_option
 
 
 def declare_num_nodes(options):

@@ -8,7 +8,7 @@ from bypassopt.components.installation.installed_engine_group import InstalledEn
 from bypassopt.problems.best_cycle import _LIMIT_SCALING, GEOMETRY_CONSTRAINTS, OBJECTIVES
 from bypassopt.problems.drivers import make_driver
 from bypassopt.scenario import CONSTRAINT_LIMITS, DESIGN_VARIABLES, load_scenario, model_inputs
-from bypassopt.validation import check_range
+from bypassopt.components.validation import check_range
 
 #: Standard acceleration of gravity, m/s**2 (ISO 80000-3 / CGPM 1901).
 G0 = 9.80665

@@ -10,7 +10,7 @@ FAILED_EVALUATION_PENALTY = 1.0e3
 class BackOffSLSQPDriver(om.ScipyOptimizeDriver):
     """SciPy SLSQP that treats an ``om.AnalysisError`` as a failed evaluation instead of aborting.
 
-    The model raises ``om.AnalysisError`` (``bypassopt.validation.InputRangeError``) for cycles that
+    The model raises ``om.AnalysisError`` (``bypassopt.components.validation.InputRangeError``) for cycles that
     cannot exist (a core jet with no pressure left, a turbine asked for more work than the gas holds).
     pyoptsparse optimizers back off from such points natively. SciPy's SLSQP has no failure flag, so
     this driver returns the last good objective plus ``FAILED_EVALUATION_PENALTY`` (in scaled units)

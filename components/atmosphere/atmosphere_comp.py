@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.validation import check_range
+from bypassopt.components.validation import check_range
 from bypassopt.components.options import declare_num_nodes
 
 # Constants of ISO 2533:1975 (identical to ICAO Doc 7488/3 and US Standard Atmosphere 1976 below
@@ -68,7 +68,7 @@ class AtmosphereComp(om.ExplicitComponent):
 
     Source: ISO 2533:1975 *Standard Atmosphere* (= ICAO Doc 7488/3 = US Standard Atmosphere 1976 below 20 km).
     Valid range: geopotential altitude 0 to 20 000 m, temperature offset -60 to +60 K. Outside it
-    (or NaN) ``compute`` raises ``bypassopt.validation.InputRangeError``. Geometric height h converts as
+    (or NaN) ``compute`` raises ``bypassopt.components.validation.InputRangeError``. Geometric height h converts as
     :math:`H = r h/(r + h)`, r = 6 356 766 m; this component takes H.
     """
 

@@ -5,7 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.gas.flow import total_from_static
 from bypassopt.components.gas.thermo import DRY_AIR_FAR
-from bypassopt.validation import check_range
+from bypassopt.components.validation import check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 MACH_MIN = 0.0
@@ -41,7 +41,7 @@ class FlightConditionComp(om.ExplicitComponent):
 
     Valid range: Mach 0 to 0.95 (subsonic free stream) and static temperature inside the gas model's
     range (200-2400 K for ``ThermallyPerfectGas``). Outside it, or NaN, ``compute`` raises
-    ``bypassopt.validation.InputRangeError``.
+    ``bypassopt.components.validation.InputRangeError``.
     """
 
     def initialize(self):

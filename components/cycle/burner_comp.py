@@ -4,7 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.gas.thermo import DRY_AIR_FAR, CaloricallyPerfectGas
-from bypassopt.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 TT4_RANGE = (1000.0, 2400.0)
@@ -55,7 +55,7 @@ class BurnerComp(om.ExplicitComponent):
     calorically perfect one) and above ``Tt3``; ``Tt3`` inside the gas model's range; ``burner_dPqP`` 0 to
     0.2; ``combustion_eff`` above 0 and up to 1; ``fuel_LHV`` 10-150 MJ/kg; the resulting ``FAR4`` at most the
     gas model's stoichiometric fuel-air ratio. Outside it, or NaN, ``compute`` raises
-    ``bypassopt.validation.InputRangeError``.
+    ``bypassopt.components.validation.InputRangeError``.
     """
 
     def initialize(self):

@@ -5,7 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.gas.processes import polytropic_compression
 from bypassopt.components.gas.thermo import DRY_AIR_FAR
-from bypassopt.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 PR_MAX = 100.0
@@ -49,7 +49,7 @@ class CompressorComp(om.ExplicitComponent):
 
     Valid range: ``{name}_PR`` 1 to 100, ``OPR`` above 1 and up to 100 and above the pressure ratio
     ``Pt_in/Pt2`` reached upstream, efficiency 0.5 to 1, inlet and exit temperatures inside the gas model's
-    range, pressures > 0. Outside it, or NaN, ``compute`` raises ``bypassopt.validation.InputRangeError``.
+    range, pressures > 0. Outside it, or NaN, ``compute`` raises ``bypassopt.components.validation.InputRangeError``.
     """
 
     def initialize(self):

@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 SMOOTHING = 1e-4
@@ -65,7 +65,7 @@ class CoolingBleedComp(om.ExplicitComponent):
     Valid range: ``customer_bleed_frac`` 0 to 0.1, given fractions 0 to 0.3, metal temperatures 900-1700 K and
     above ``Tt3``, cooling constants 0 to 0.5, ``rotor_relative_temperature_ratio`` 0.7 to 1, ``Tt3`` and
     ``Tt4`` inside the gas model's range, and ``burner_air_frac`` at least 0.5. Outside it, or NaN,
-    ``compute`` raises ``bypassopt.validation.InputRangeError``.
+    ``compute`` raises ``bypassopt.components.validation.InputRangeError``.
     """
 
     def initialize(self):

@@ -4,7 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.gas.thermo import DRY_AIR_FAR
-from bypassopt.validation import check_range
+from bypassopt.components.validation import check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 COOLANT_FRAC_MAX = 0.5
@@ -42,7 +42,7 @@ class CoolingMixComp(om.ExplicitComponent):
     Valid range: stream and coolant temperatures inside the gas model's range (200-2400 K for
     ``ThermallyPerfectGas``), fuel-air ratio 0 to stoichiometric, :math:`W_{in} > 0`, coolant fraction
     0 to 0.5, basis flow above 0 up to 1, :math:`P_{t,in} > 0`. Outside it (or NaN) ``compute`` raises
-    ``bypassopt.validation.InputRangeError``.
+    ``bypassopt.components.validation.InputRangeError``.
     """
 
     def initialize(self):

@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.validation import check_range
+from bypassopt.components.validation import check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 DPQP_MAX = 0.2
@@ -28,7 +28,7 @@ class DuctComp(om.ExplicitComponent):
     give inputs ``Tt13``, ``Pt13``, ``bypass_duct_dPqP`` and outputs ``Tt17``, ``Pt17``.
 
     Valid range: ``{name}_dPqP`` 0 to 0.2, entry temperature inside the gas model's range, entry pressure > 0.
-    Outside it, or NaN, ``compute`` raises ``bypassopt.validation.InputRangeError``.
+    Outside it, or NaN, ``compute`` raises ``bypassopt.components.validation.InputRangeError``.
     """
 
     def initialize(self):

@@ -5,7 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.gas.processes import polytropic_compression
 from bypassopt.components.gas.thermo import DRY_AIR_FAR
-from bypassopt.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 FPR_MIN = 1.0
@@ -43,7 +43,7 @@ class FanComp(om.ExplicitComponent):
 
     Valid range: ``FPR`` above 1 and up to 4, ``fan_core_PR`` 1 to 4, efficiencies 0.5 to 1, ``Tt2`` and the
     exit temperatures inside the gas model's range, ``Pt2`` > 0. Outside it, or NaN, ``compute`` raises
-    ``bypassopt.validation.InputRangeError``.
+    ``bypassopt.components.validation.InputRangeError``.
     """
 
     def initialize(self):

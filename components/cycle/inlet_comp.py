@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.validation import check_range
+from bypassopt.components.validation import check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 RECOVERY_MIN = 0.8
@@ -26,7 +26,7 @@ class InletComp(om.ExplicitComponent):
     field-reference 3.3); the default is 0.997.
 
     Valid range: ``inlet_recovery`` 0.8 to 1, ``Tt0`` inside the gas model's range, ``Pt0`` > 0. Outside it,
-    or NaN, ``compute`` raises ``bypassopt.validation.InputRangeError``.
+    or NaN, ``compute`` raises ``bypassopt.components.validation.InputRangeError``.
     """
 
     def initialize(self):

@@ -5,7 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.gas.flow import sonic
 from bypassopt.components.gas.thermo import DRY_AIR_FAR
-from bypassopt.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 _PREFIX = {"core": "core_nozzle", "bypass": "bypass_nozzle"}
@@ -71,7 +71,7 @@ class NozzleComp(om.ExplicitComponent):
     :math:`T_t`, the fully expanded and (convergent) sonic static temperatures inside the gas model's
     range (200-2400 K for ``ThermallyPerfectGas``, so :math:`T_t \gtrsim 240` K for a convergent nozzle);
     fuel-air ratio 0 to stoichiometric; :math:`0 < C_v, C_d \le 1`. Outside it (or NaN) ``compute``
-    raises ``bypassopt.validation.InputRangeError``.
+    raises ``bypassopt.components.validation.InputRangeError``.
     """
 
     def initialize(self):

@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_num_nodes
 
 BPR_MAX = 30.0
@@ -37,7 +37,7 @@ class SpoolPowerComp(om.ExplicitComponent):
 
     Valid range: :math:`0 < \alpha \le 30`; works :math:`\ge 0` J/kg (less the round-off allowance
     ``WORK_ROUNDOFF``); offtake 0 to 2 MW; :math:`W_2 > 0`. Outside it (or NaN) ``compute`` raises
-    ``bypassopt.validation.InputRangeError``.
+    ``bypassopt.components.validation.InputRangeError``.
     """
 
     def initialize(self):

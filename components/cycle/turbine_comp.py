@@ -4,7 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.gas.processes import expansion_from_work
-from bypassopt.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 
@@ -33,7 +33,7 @@ class TurbineComp(om.ExplicitComponent):
     fuel-air ratio 0 to stoichiometric, :math:`W_{in} > 0`, demand :math:`\ge 0`, :math:`0 < e_t \le 1`,
     :math:`0 < \eta_m \le 1`, and a work the gas can give: :math:`w < h(T_{t,in}) - h(T_{min})` with
     :math:`T_{min}` the gas model's lowest temperature. Outside it (or NaN) ``compute`` raises
-    ``bypassopt.validation.InputRangeError``.
+    ``bypassopt.components.validation.InputRangeError``.
     """
 
     def initialize(self):

@@ -2,7 +2,7 @@
 
 import numpy as np
 
-from bypassopt.validation import check_range
+from bypassopt.components.validation import check_range
 
 from .flow import FlowResult
 

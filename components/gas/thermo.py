@@ -2,7 +2,7 @@
 
 import numpy as np
 
-from bypassopt.validation import check_range
+from bypassopt.components.validation import check_range
 
 from .nasa7_data import (DRY_AIR_MOLE_FRACTIONS, M_CARBON, M_HYDROGEN, NASA7, R_UNIVERSAL,
                          SPECIES)

@@ -16,7 +16,7 @@ Sources
 
 import numpy as np
 
-from bypassopt.validation import check_range
+from bypassopt.components.validation import check_range
 
 #: Lowest Reynolds number (based on wetted length) for which the turbulent lines are used here.
 RE_MIN = 1.0e5

@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.validation import check_range
+from bypassopt.components.validation import check_range
 from bypassopt.components.options import declare_num_nodes
 
 #: Coefficient of the SI form, kg/kN**1.1 (Raymer, from memory; 0.084 lb/lbf**1.1 in English units).

@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.validation import check_range
+from bypassopt.components.validation import check_range
 from bypassopt.components.options import declare_num_nodes
 
 #: Standard acceleration of gravity, m/s**2 (ISO 80000-3 / CGPM 1901).

@@ -5,7 +5,7 @@ from pathlib import Path
 
 ROOT = Path(__file__).resolve().parents[2]
 #: Source folders and the package names they install as ([tool.setuptools.package-dir]).
-SOURCE_ROOTS = {"bypassopt": "bypassopt", "components": "bypassopt.components", "problems": "bypassopt.problems"}
+SOURCE_ROOTS = {"src/bypassopt": "bypassopt", "components": "bypassopt.components", "problems": "bypassopt.problems"}
 
 
 def _pyproject():
@@ -21,6 +21,10 @@ def _package_folders():
             if "__pycache__" in rel.parts:
                 continue
             found[".".join((package, *rel.parts))] = init.parent
+    # data folders shipped as package data are listed too (else setuptools warns and may drop them)
+    for data in sorted((ROOT / "src" / "bypassopt").glob("*/")):
+        if data.is_dir() and not (data / "__init__.py").exists() and data.name != "__pycache__":
+            found[f"bypassopt.{data.name}"] = data
     return found
 
 

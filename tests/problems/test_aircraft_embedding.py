@@ -14,7 +14,7 @@ from bypassopt.problems.aircraft_embedding import (
     build_embedding_problem,
 )
 from bypassopt.scenario import load_scenario
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 PARTIALS_TOL = 1e-10
 TOTALS_TOL = 1e-7

@@ -6,7 +6,7 @@ import pytest
 
 from bypassopt.problems.drivers import BackOffSLSQPDriver, make_driver, pyoptsparse_available
 from bypassopt.scenario import ScenarioError
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 
 class _WallComp(om.ExplicitComponent):

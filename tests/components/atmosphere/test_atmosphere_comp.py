@@ -6,7 +6,7 @@ import pytest
 from openmdao.utils.assert_utils import assert_check_partials
 
 from bypassopt.components.atmosphere.atmosphere_comp import AtmosphereComp
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 ambiance = pytest.importorskip("ambiance")
 

@@ -10,7 +10,7 @@ from scipy.optimize import brentq
 from bypassopt.components.atmosphere.flight_condition_comp import FlightConditionComp
 from bypassopt.components.atmosphere.flight_condition_group import FlightConditionGroup
 from bypassopt.components.gas.thermo import CaloricallyPerfectGas, ThermallyPerfectGas
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-12
 # The gas module and Cantera use the same NASA 7-coefficient data and CODATA R*; what remains is the

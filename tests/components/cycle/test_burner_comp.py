@@ -8,7 +8,7 @@ from scipy.optimize import brentq
 
 from bypassopt.components.cycle.burner_comp import BurnerComp
 from bypassopt.components.gas.thermo import T_REF, CaloricallyPerfectGas, ThermallyPerfectGas
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-12
 # Field-reference 2.7 prints fuel-air ratios to 6 decimals: half a unit of the last digit.

@@ -7,7 +7,7 @@ from openmdao.utils.assert_utils import assert_check_partials
 
 from bypassopt.components.cycle.compressor_comp import CompressorComp
 from bypassopt.components.gas.thermo import CaloricallyPerfectGas, ThermallyPerfectGas
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-12
 # Field-reference 3.2 and 4.4 print temperatures to 3 decimals and works to 3 decimals in kJ/kg.

@@ -7,7 +7,7 @@ from openmdao.utils.assert_utils import assert_check_partials
 
 from bypassopt.components.cycle.cooling_comp import CoolingBleedComp
 from bypassopt.components.gas.thermo import CaloricallyPerfectGas, ThermallyPerfectGas
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-12
 # The smooth positive part changes psi = K*eps/(1 - eps) by (sqrt(x**2 + 1e-4) - x)/(2 x), x = eps/(1-eps):

@@ -9,7 +9,7 @@ from openmdao.utils.assert_utils import assert_check_partials
 
 from bypassopt.components.cycle.cooling_mix_comp import CoolingMixComp
 from bypassopt.components.gas.thermo import CaloricallyPerfectGas, ThermallyPerfectGas
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-12
 # The gas module and Cantera use the same NASA 7-coefficient species data; the molar masses differ in

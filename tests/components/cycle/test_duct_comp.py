@@ -7,7 +7,7 @@ from openmdao.utils.assert_utils import assert_check_partials
 
 from bypassopt.components.cycle.duct_comp import DuctComp
 from bypassopt.components.gas.thermo import CaloricallyPerfectGas, ThermallyPerfectGas
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-14
 PARTIALS_TOL = 1e-10

@@ -7,7 +7,7 @@ from openmdao.utils.assert_utils import assert_check_partials
 
 from bypassopt.components.cycle.fan_comp import FanComp
 from bypassopt.components.gas.thermo import CaloricallyPerfectGas, ThermallyPerfectGas
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-12
 # Field-reference 3.2 prints temperatures to 3 decimals (6 significant figures) and works to 3 decimals

@@ -10,7 +10,7 @@ from openmdao.utils.assert_utils import assert_check_partials
 from bypassopt.components.cycle.nozzle_comp import NozzleComp
 from bypassopt.components.gas.flow import sonic
 from bypassopt.components.gas.thermo import CaloricallyPerfectGas, ThermallyPerfectGas
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-11
 # Field-reference 4.3 gives V9 and V19 to 6 significant digits.

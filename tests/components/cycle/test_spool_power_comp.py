@@ -8,7 +8,7 @@ import pytest
 from openmdao.utils.assert_utils import assert_check_partials
 
 from bypassopt.components.cycle.spool_power_comp import SpoolPowerComp
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-13
 # Field-reference 4.3 tabulates tau_t to 6 significant digits.

@@ -12,7 +12,7 @@ from bypassopt.components.cycle.nozzle_comp import NozzleComp
 from bypassopt.components.cycle.spool_power_comp import SpoolPowerComp
 from bypassopt.components.cycle.turbine_comp import TurbineComp
 from bypassopt.components.gas.thermo import CaloricallyPerfectGas, ThermallyPerfectGas
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-11
 # Field-reference 3.2 rounds eta_t to 5 decimals and temperatures to 3 decimals.

@@ -7,7 +7,7 @@ import pytest
 
 from bypassopt.components.gas import nasa7_data
 from bypassopt.components.gas.thermo import T_REF, CaloricallyPerfectGas, ThermallyPerfectGas
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 SEED = 20240611
 SPECIES = ("N2", "O2", "Ar", "CO2", "H2O")

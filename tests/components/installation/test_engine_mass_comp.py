@@ -8,7 +8,7 @@ from bypassopt.components.installation.nacelle_geometry_comp import NacelleGeome
 from bypassopt.components.installation.statistical_engine_mass_comp import StatisticalEngineMassComp
 from openmdao.utils.assert_utils import assert_check_partials
 
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-12
 PARTIALS_TOL = 1e-10

@@ -7,7 +7,7 @@ from openmdao.utils.assert_utils import assert_check_partials
 
 from bypassopt.components.gas.thermo import CaloricallyPerfectGas, ThermallyPerfectGas
 from bypassopt.components.installation.fan_sizing_comp import FanSizingComp
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 EXACT_RTOL = 1e-10
 CHECK_VALUE_RTOL = 5e-5  # field-reference 7.2 prints areas and diameters to 5 figures

@@ -6,7 +6,7 @@ import pytest
 from bypassopt.components.installation.ground_clearance_comp import GroundClearanceComp
 from openmdao.utils.assert_utils import assert_check_partials
 
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-12
 PARTIALS_TOL = 1e-10

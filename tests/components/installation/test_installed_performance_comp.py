@@ -6,7 +6,7 @@ import pytest
 from openmdao.utils.assert_utils import assert_check_partials
 
 from bypassopt.components.installation.installed_performance_comp import InstalledPerformanceComp
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 EXACT_RTOL = 1e-12
 PARTIALS_TOL = 1e-10

@@ -6,7 +6,7 @@ import pytest
 from bypassopt.components.installation.nacelle_drag_comp import NacelleDragComp
 from openmdao.utils.assert_utils import assert_check_partials
 
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 # Field-reference 8.2 quotes 889.9 N (4 significant digits, inputs rounded to 4 digits).
 ATOL_FIELD_REF_DRAG = 0.1

@@ -7,7 +7,7 @@ from bypassopt.components.installation.nacelle_geometry_comp import NacelleGeome
 from openmdao.utils.assert_utils import assert_check_partials
 from scipy.integrate import quad
 
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 RTOL_EXACT = 1e-12
 # Surface-of-revolution areas by adaptive quadrature (scipy.integrate.quad).

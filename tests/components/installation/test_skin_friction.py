@@ -11,7 +11,7 @@ from bypassopt.components.installation.skin_friction import (
 )
 from scipy.optimize import brentq
 
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 # Field-reference 8.2 tabulates C_f to 6 decimals (half a unit in the last place).
 ATOL_TABLE_CF = 5.1e-7

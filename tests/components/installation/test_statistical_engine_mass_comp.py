@@ -7,7 +7,7 @@ from bypassopt.components.installation.statistical_engine_mass_comp import Stati
 from openmdao.utils.assert_utils import assert_check_partials
 from openmdao.utils.units import convert_units
 
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 # Field-reference 9 quotes the check values to 0.1 kg.
 ATOL_FIELD_REF = 0.06

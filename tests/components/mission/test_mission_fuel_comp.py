@@ -7,7 +7,7 @@ from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
 from openmdao.utils.assert_utils import assert_check_partials
 from scipy.integrate import solve_ivp
 
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 G0 = 9.80665  # standard gravity, m/s^2 (ISO 80000-3; field-reference 1.2)
 RTOL_EXACT = 1e-12

@@ -29,7 +29,7 @@ from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
 from bypassopt.problems.best_cycle import build_best_cycle_problem, build_evaluation_problem
 from bypassopt.problems.kkt import kkt_analysis
 from bypassopt.scenario import ScenarioError, load_scenario
-from bypassopt.validation import InputRangeError
+from bypassopt.components.validation import InputRangeError
 
 __all__ = [
     "AtmosphereComp", "FlightConditionComp", "FlightConditionGroup", "BurnerComp", "CompressorComp",

@@ -3,7 +3,7 @@
 Every value is in SI units, with the unit in the key name (``altitude_m``, ``thrust_required_N``);
 dimensionless keys carry no suffix. Unknown sections or keys, wrong types and out-of-range values are
 errors that name the key, the value and the allowed range. The built-in demo scenario is
-``bypassopt/data/demo_twin_170.toml`` (an invented aircraft concept).
+``src/bypassopt/data/demo_twin_170.toml`` (an invented aircraft concept).
 """
 
 import copy
