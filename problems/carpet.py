@@ -268,7 +268,7 @@ def run_carpet(scenario=None, bpr_values=None, opr_values=None, fpr_mode=None, f
         so that >= 0 meets it}; ``limits`` (``carpet_limits``); ``feasible`` (the model evaluated the
         point); ``meets_limits`` (feasible and every margin >= 0); ``optimum`` (grid point of least
         objective meeting all limits: BPR, OPR, FPR, objective, index; None if there is none);
-        ``bpr_values``, ``opr_values``, ``fpr_mode``, ``T4`` (K), ``scenario_name``, ``units``,
+        ``bpr_values``, ``opr_values``, ``fpr_mode``, ``T4`` (K), ``scenario``, ``units``,
         ``fpr_optimisation`` (driver summary, 'optimal' mode) and ``model_runs``.
     """
     scenario = scenario or load_scenario()
@@ -349,11 +349,11 @@ def run_carpet(scenario=None, bpr_values=None, opr_values=None, fpr_mode=None, f
     step("done")
 
     result = {
-        "scenario_name": scenario["aircraft"].get("name", "scenario"),
+        "scenario": scenario["aircraft"].get("name", "scenario"),
         "fpr_mode": fpr_mode,
         "fixed_fpr": float(fixed_fpr) if fpr_mode == "fixed" else None,
         "FPR_bounds": (lower, upper),
-        "T4": float(scenario["design_variables"]["T4_K"]["initial"]),
+        "Tt4": float(scenario["design_variables"]["Tt4_K"]["initial"]),
         "bpr_values": bpr_values,
         "opr_values": opr_values,
         "BPR": B,

@@ -42,8 +42,8 @@ def previous_engine_scenario(scenario):
     The aircraft, thrust requirement and the fan-face and nacelle proportions stay the scenario's.
     """
     prev = scenario.get("previous_engine")
-    if not prev or not {"BPR", "FPR", "OPR", "T4_K"} <= set(prev):
-        raise ScenarioError("previous_engine: the scenario needs BPR, FPR, OPR and T4_K of the previous "
+    if not prev or not {"BPR", "FPR", "OPR", "Tt4_K"} <= set(prev):
+        raise ScenarioError("previous_engine: the scenario needs BPR, FPR, OPR and Tt4_K of the previous "
                             "engine for a re-engining comparison.")
     out = copy.deepcopy(scenario)
     drop = prev.get("efficiency_drop", 0.0)
@@ -62,7 +62,7 @@ def evaluate_previous_engine(scenario):
     """
     prev_scenario = previous_engine_scenario(scenario)
     prev = scenario["previous_engine"]
-    design = {"BPR": prev["BPR"], "FPR": prev["FPR"], "OPR": prev["OPR"], "Tt4": prev["T4_K"]}
+    design = {"BPR": prev["BPR"], "FPR": prev["FPR"], "OPR": prev["OPR"], "Tt4": prev["Tt4_K"]}
     prob = build_evaluation_problem(prev_scenario, design=design)
     prob.bypassopt_scenario = scenario
     try:
@@ -124,7 +124,7 @@ def compare_reengining(scenario=None, objective=None, driver=None, before_run=No
     if dmargin < 0.0:
         notes.append(f"The previous engine's nacelle is {format_number(-100.0 * dmargin, 3)} cm wider than "
                      "today's diameter limit; reported, not enforced.")
-    for key, label in (("max_T41_K", "Tt41"), ("max_T3_K", "Tt3")):
+    for key, label in (("max_Tt41_K", "Tt41"), ("max_Tt3_K", "Tt3")):
         val = previous["quantities"][label]["value"]
         if val > scenario["limits"][key]:
             notes.append(f"The previous engine's {label} of {format_number(val)} K is above today's limit "
@@ -154,7 +154,7 @@ def format_reengining(result):
     lines.append(textwrap.fill("CAUTION: " + result["caution"], width=100))
     lines.append("")
     lines.append(f"Previous engine: BPR {format_number(prev['BPR'])}, FPR {format_number(prev['FPR'])}, "
-                 f"OPR {format_number(prev['OPR'])}, T4 {format_number(prev['T4_K'])} K, polytropic "
+                 f"OPR {format_number(prev['OPR'])}, T4 {format_number(prev['Tt4_K'])} K, polytropic "
                  f"efficiencies {format_number(100.0 * prev.get('efficiency_drop', 0.0), 3)} points lower.")
     opt = result["optimizer"]
     state = "converged" if opt["success"] else "DID NOT CONVERGE"

@@ -17,8 +17,8 @@ TRADE_LIMITS = {
                       "wing height above the ground at the engine station", "clearance_margin"),
     "min_ground_clearance_m": ("installation", "min_ground_clearance", "m", 0.01, "cm",
                                "required ground clearance", "clearance_margin"),
-    "max_T41_K": ("limits", None, "K", 1.0, "K", "allowed T41", "Tt41"),
-    "max_T3_K": ("limits", None, "K", 1.0, "K", "allowed T3", "Tt3"),
+    "max_Tt41_K": ("limits", None, "K", 1.0, "K", "allowed T41", "Tt41"),
+    "max_Tt3_K": ("limits", None, "K", 1.0, "K", "allowed T3", "Tt3"),
 }
 
 #: What one unit of each objective is called in the sentence.
@@ -148,8 +148,8 @@ def run_trade_curve(scenario=None, limit=None, values=None, progress=None):
 
     Each point re-solves ``build_best_cycle_problem`` starting from the previous optimum's design
     variables. A limit that is a model input (``max_nacelle_diameter_m``, ``wing_height_m``,
-    ``min_ground_clearance_m``) is changed on one reused problem; a constraint bound (``max_T41_K``,
-    ``max_T3_K``) needs a problem rebuilt from a scenario copy, then set to the previous optimum.
+    ``min_ground_clearance_m``) is changed on one reused problem; a constraint bound (``max_Tt41_K``,
+    ``max_Tt3_K``) needs a problem rebuilt from a scenario copy, then set to the previous optimum.
     At every optimum ``kkt_analysis`` gives the multipliers and shadow prices of the active constraints,
     and ``limit_sensitivity`` the change of the optimum objective per unit of the swept limit.
 
@@ -169,7 +169,7 @@ def run_trade_curve(scenario=None, limit=None, values=None, progress=None):
     -------
     dict
         ``limit``, ``limit_description``, ``limit_units``, ``values`` (array), ``objective_name``,
-        ``objective_units``, ``scenario_name``, arrays over the points (``success``, ``objective``,
+        ``objective_units``, ``scenario``, arrays over the points (``success``, ``objective``,
         ``BPR``, ``FPR``, ``OPR``, ``Tt4``, ``d_objective_d_limit``) and ``points``: per point a dict
         with ``value``, ``success``, ``message``, ``iterations``, ``objective``, ``design`` {design
         variable: value}, ``outputs`` (``REPORTED_OUTPUTS``), ``active`` (names of the active
@@ -241,7 +241,7 @@ def run_trade_curve(scenario=None, limit=None, values=None, progress=None):
         "values": values,
         "objective_name": objective,
         "objective_units": obj_units,
-        "scenario_name": scenario["aircraft"].get("name", "scenario"),
+        "scenario": scenario["aircraft"].get("name", "scenario"),
         "points": points,
     }
     out["success"] = np.array([p["success"] for p in points])

@@ -9,7 +9,7 @@ from bypassopt.components.options import declare_gas, declare_num_nodes
 
 TT4_RANGE = (1000.0, 2400.0)
 """Accepted burner exit temperatures with a thermally perfect gas, K (upper end: dissociation)."""
-DPQP_MAX = 0.2
+PRESSURE_LOSS_MAX = 0.2
 """Largest accepted burner total-pressure loss fraction, -."""
 LHV_RANGE = (1.0e7, 1.5e8)
 """Accepted fuel lower heating values, J/kg (kerosene 43 MJ/kg; hydrogen about 120 MJ/kg)."""
@@ -52,7 +52,7 @@ class BurnerComp(om.ExplicitComponent):
     0.999). Default LHV 43.0 MJ/kg (common practice for kerosene, field-reference 2.8).
 
     Valid range: ``Tt4`` 1000-2400 K with a thermally perfect gas (inside the gas model's range with a
-    calorically perfect one) and above ``Tt3``; ``Tt3`` inside the gas model's range; ``burner_dPqP`` 0 to
+    calorically perfect one) and above ``Tt3``; ``Tt3`` inside the gas model's range; ``burner_pressure_loss`` 0 to
     0.2; ``combustion_eff`` above 0 and up to 1; ``fuel_LHV`` 10-150 MJ/kg; the resulting ``FAR4`` at most the
     gas model's stoichiometric fuel-air ratio. Outside it, or NaN, ``compute`` raises
     ``bypassopt.components.validation.InputRangeError``.
@@ -74,7 +74,7 @@ class BurnerComp(om.ExplicitComponent):
         self.add_input("Pt3", val=3.0e6 * ones, units="Pa", desc="Burner entry (HPC exit) total pressure.")
         self.add_input("Tt4", val=1700.0 * ones, units="K",
                        desc="Requested burner exit total temperature (1000-2400 K, above Tt3).")
-        self.add_input("burner_dPqP", val=0.04 * ones, units=None,
+        self.add_input("burner_pressure_loss", val=0.04 * ones, units=None,
                        desc="Burner total-pressure loss (Pt3 - Pt4)/Pt3 (0 to 0.2; 0.03-0.05 common "
                             "practice).")
         self.add_input("combustion_eff", val=0.999 * ones, units=None,
@@ -94,7 +94,7 @@ class BurnerComp(om.ExplicitComponent):
         self.add_output("FAR4", val=0.025 * ones, units=None,
                         desc="Fuel-air ratio: fuel per kg of burner air.")
         self.add_output("Pt4", val=2.9e6 * ones, units="Pa",
-                        desc="Burner exit total pressure, Pt3*(1 - burner_dPqP).")
+                        desc="Burner exit total pressure, Pt3*(1 - burner_pressure_loss).")
 
     def setup_partials(self):
         """Declare the sparse (elementwise) partial derivatives."""
@@ -102,7 +102,7 @@ class BurnerComp(om.ExplicitComponent):
         for wrt in ("Tt3", "Tt4", "combustion_eff", "fuel_LHV"):
             self.declare_partials("FAR4", wrt, rows=ar, cols=ar)
         self.declare_partials("Pt4", "Pt3", rows=ar, cols=ar)
-        self.declare_partials("Pt4", "burner_dPqP", rows=ar, cols=ar)
+        self.declare_partials("Pt4", "burner_pressure_loss", rows=ar, cols=ar)
         self.declare_partials("W4_frac", "core_flow_frac", rows=ar, cols=ar)
         self.declare_partials("W4_frac", "burner_air_frac", rows=ar, cols=ar)
         if self.options["include_fuel_mass"]:
@@ -117,7 +117,7 @@ class BurnerComp(om.ExplicitComponent):
         check_range("Tt3", inputs["Tt3"], gas.T_MIN, gas.T_MAX, "K", where=where)
         check_range("Tt4", inputs["Tt4"], max(lo, gas.T_MIN), min(hi, gas.T_MAX), "K", where=where)
         check_range("Pt3", inputs["Pt3"], 0.0, np.inf, "Pa", lower_inclusive=False, where=where)
-        check_range("burner_dPqP", inputs["burner_dPqP"], 0.0, DPQP_MAX, "", where=where)
+        check_range("burner_pressure_loss", inputs["burner_pressure_loss"], 0.0, PRESSURE_LOSS_MAX, "", where=where)
         check_range("combustion_eff", inputs["combustion_eff"], 0.0, 1.0, "", lower_inclusive=False,
                     where=where)
         check_range("fuel_LHV", inputs["fuel_LHV"], *LHV_RANGE, "J/kg", where=where)
@@ -171,7 +171,7 @@ class BurnerComp(om.ExplicitComponent):
                 f"stoichiometric ({gas.far_stoich:.6g}) for Tt4 = {T4:.6g} K and "
                 f"Tt3 = {T3:.6g} K.")
         outputs["FAR4"] = far
-        outputs["Pt4"] = inputs["Pt3"] * (1.0 - inputs["burner_dPqP"])
+        outputs["Pt4"] = inputs["Pt3"] * (1.0 - inputs["burner_pressure_loss"])
         air = inputs["core_flow_frac"] * inputs["burner_air_frac"]
         outputs["W4_frac"] = air * (1.0 + far) if self.options["include_fuel_mass"] else air
 
@@ -187,5 +187,5 @@ class BurnerComp(om.ExplicitComponent):
         if fuel:
             for wrt, val in d.items():
                 partials["W4_frac", wrt] = c * b * val
-        partials["Pt4", "Pt3"] = 1.0 - inputs["burner_dPqP"]
-        partials["Pt4", "burner_dPqP"] = -inputs["Pt3"]
+        partials["Pt4", "Pt3"] = 1.0 - inputs["burner_pressure_loss"]
+        partials["Pt4", "burner_pressure_loss"] = -inputs["Pt3"]

@@ -26,8 +26,8 @@ class TurbofanCycleGroup(om.Group):
 
     Inputs a user sets (all promoted): ``altitude``, ``dT_isa``, ``Mach0`` (flight condition);
     ``BPR``, ``FPR``, ``OPR``, ``Tt4`` (cycle choices); ``booster_PR``; ``Fn_required`` (net thrust,
-    N); component efficiencies and losses (``*_eff_poly``, ``inlet_recovery``, ``burner_dPqP``,
-    ``combustion_eff``, ``*_duct_dPqP``, nozzle coefficients, ``*_mech_eff``), extractions
+    N); component efficiencies and losses (``*_eff_poly``, ``inlet_recovery``, ``burner_pressure_loss``,
+    ``combustion_eff``, ``*_duct_pressure_loss``, nozzle coefficients, ``*_mech_eff``), extractions
     (``customer_bleed_frac``, cooling fractions or correlation constants), ``HP_power_offtake`` (W),
     ``fuel_LHV``.
 
@@ -42,7 +42,7 @@ class TurbofanCycleGroup(om.Group):
     (one or two iterations, since the offtake is small). A parent group that closes a larger loop
     (the installed engine) sets ``solve_sizing=False`` and solves everything at once.
 
-    With ``turbine_temperature_input='T41'`` the user sets ``Tt41_required`` (the rotor inlet
+    With ``turbine_temperature_input='Tt41'`` the user sets ``Tt41_required`` (the rotor inlet
     temperature most limits are written against) and the group solves for ``Tt4`` with a balance
     (Newton; the parent solves it when ``solve_sizing=False``).
 
@@ -63,7 +63,7 @@ class TurbofanCycleGroup(om.Group):
                              desc="turbine cooling fractions given, or from the cooling-effectiveness correlation")
         self.options.declare("fan_core_side_ratio", default="equal", values=("equal", "input"),
                              desc="fan core-side pressure ratio equal to FPR, or an input of its own")
-        self.options.declare("turbine_temperature_input", default="T4", values=("T4", "T41"),
+        self.options.declare("turbine_temperature_input", default="Tt4", values=("Tt4", "Tt41"),
                              desc="set the burner exit temperature Tt4, or the HPT rotor inlet temperature "
                                   "(input Tt41_required; Tt4 then follows from a balance solved by Newton)")
         self.options.declare("coupled_solver", default="newton", values=COUPLED_SOLVERS,
@@ -117,7 +117,7 @@ class TurbofanCycleGroup(om.Group):
         self.add_subsystem("sizing", SizingComp(num_nodes=nn), promotes=["*"])
 
         ones = np.ones(nn)
-        if self.options["turbine_temperature_input"] == "T41":
+        if self.options["turbine_temperature_input"] == "Tt41":
             # Tt4 becomes a state: Tt41 (after the vane coolant is mixed in) must equal the requirement.
             balance = om.BalanceComp("Tt4", val=1700.0 * ones, units="K", eq_units="K", lhs_name="Tt41",
                                      rhs_name="Tt41_required", rhs_val=1600.0 * ones, lower=1000.0, upper=2400.0,
@@ -128,7 +128,7 @@ class TurbofanCycleGroup(om.Group):
         self.set_input_defaults("BPR", 10.0 * ones)
         self.set_input_defaults("fuel_LHV", 43.0e6 * ones, units="J/kg")
 
-        if self.options["solve_sizing"] or self.options["turbine_temperature_input"] == "T41":
+        if self.options["solve_sizing"] or self.options["turbine_temperature_input"] == "Tt41":
             set_coupled_solvers(self, self.options["coupled_solver"], nn, maxiter=30)
 
     def guess_nonlinear(self, inputs, outputs, residuals):

@@ -6,7 +6,7 @@ import openmdao.api as om
 from bypassopt.components.validation import check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
-DPQP_MAX = 0.2
+PRESSURE_LOSS_MAX = 0.2
 """Largest accepted duct total-pressure loss fraction, -."""
 
 
@@ -19,15 +19,15 @@ class DuctComp(om.ExplicitComponent):
 
     No work and no heat cross the duct walls, so the total enthalpy, and with an unchanged composition the
     total temperature, is conserved (steady-flow energy equation); friction and mixing losses appear as the
-    total-pressure loss :math:`\Delta p/p` (``{name}_dPqP``). Typical losses (common practice,
+    total-pressure loss :math:`\Delta p/p` (``{name}_pressure_loss``). Typical losses (common practice,
     field-reference 3.3): bypass duct 1-2 %, inter-compressor duct 1-2 %, inter-turbine duct 0.5-1 %, core
     exhaust duct 0.5-1 %; default 1.5 %. The fuel-air ratio is unchanged and is read by the downstream
     element (the nozzle) directly, so the duct carries none.
 
     Variable names come from the options: ``station_in='13'``, ``station_out='17'``, ``name='bypass_duct'``
-    give inputs ``Tt13``, ``Pt13``, ``bypass_duct_dPqP`` and outputs ``Tt17``, ``Pt17``.
+    give inputs ``Tt13``, ``Pt13``, ``bypass_duct_pressure_loss`` and outputs ``Tt17``, ``Pt17``.
 
-    Valid range: ``{name}_dPqP`` 0 to 0.2, entry temperature inside the gas model's range, entry pressure > 0.
+    Valid range: ``{name}_pressure_loss`` 0 to 0.2, entry temperature inside the gas model's range, entry pressure > 0.
     Outside it, or NaN, ``compute`` raises ``bypassopt.components.validation.InputRangeError``.
     """
 
@@ -40,12 +40,12 @@ class DuctComp(om.ExplicitComponent):
         self.options.declare("station_out", types=str, default="17",
                              desc="Station number of the duct exit (variables Tt<n>, Pt<n>).")
         self.options.declare("name", types=str, default="bypass_duct",
-                             desc="Prefix of the duct's loss input <name>_dPqP, e.g. 'bypass_duct'.")
+                             desc="Prefix of the duct's loss input <name>_pressure_loss, e.g. 'bypass_duct'.")
 
     def _names(self):
         """Station- and name-derived variable names."""
         si, so, name = (self.options[k] for k in ("station_in", "station_out", "name"))
-        return f"Tt{si}", f"Pt{si}", f"Tt{so}", f"Pt{so}", f"{name}_dPqP"
+        return f"Tt{si}", f"Pt{si}", f"Tt{so}", f"Pt{so}", f"{name}_pressure_loss"
 
     def setup(self):
         """Declare inputs and outputs."""
@@ -75,7 +75,7 @@ class DuctComp(om.ExplicitComponent):
         T_in, P_in, T_out, P_out, loss = self._names()
         check_range(T_in, inputs[T_in], gas.T_MIN, gas.T_MAX, "K", where=self.pathname)
         check_range(P_in, inputs[P_in], 0.0, np.inf, "Pa", lower_inclusive=False, where=self.pathname)
-        check_range(loss, inputs[loss], 0.0, DPQP_MAX, "", where=self.pathname)
+        check_range(loss, inputs[loss], 0.0, PRESSURE_LOSS_MAX, "", where=self.pathname)
         outputs[T_out] = inputs[T_in]
         outputs[P_out] = inputs[P_in] * (1.0 - inputs[loss])
 

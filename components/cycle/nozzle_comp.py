@@ -46,9 +46,9 @@ class NozzleComp(om.ExplicitComponent):
     :math:`A_e/W = 1/(C_d \rho_e V_e)`. ``V{throat}_jet`` equals :math:`F_{g,sp}`: the effective jet
     velocity, i.e. the velocity a fully expanded jet would need to give the same gross thrust (pressure
     thrust and :math:`C_v` included), so the stream's gross thrust is its flow times ``V{throat}_jet``.
-    The station ``station_throat`` variables (``MN``, ``Ps``, ``area``) describe the exit plane: the
+    The station ``station_throat`` variables (``Mach``, ``Ps``, ``area``) describe the exit plane: the
     throat of a convergent nozzle, the exit of a fully expanding one. The fully expanded state
-    (``V/Ts/rho/MN{throat}_full``) is output in both modes for the afterbody scrubbing drag.
+    (``V/Ts/rho/Mach{throat}_full``) is output in both modes for the afterbody scrubbing drag.
 
     **Smoothness at the choking point.** Let :math:`G(p_e) = V(p_e) + (p_e - p_0)/(\rho(p_e) V(p_e))`
     be the thrust of the isentropic stream (fixed :math:`T_t, P_t, f`) expanded to :math:`p_e`. Along the
@@ -93,9 +93,9 @@ class NozzleComp(om.ExplicitComponent):
         si, st, px = o["station_in"], o["station_throat"], _PREFIX[o["stream"]]
         return {"Tt": f"Tt{si}", "Pt": f"Pt{si}", "far": f"FAR{si}", "Ps0": "Ps0",
                 "Cv": f"{px}_velocity_coeff", "Cd": f"{px}_discharge_coeff",
-                "Fg": f"Fg{st}_specific", "Vjet": f"V{st}_jet", "MN": f"MN{st}", "Ps": f"Ps{st}",
+                "Fg": f"Fg{st}_specific", "Vjet": f"V{st}_jet", "Mach": f"Mach{st}", "Ps": f"Ps{st}",
                 "area": f"area{st}_per_flow", "V_full": f"V{st}_full", "Ts_full": f"Ts{st}_full",
-                "rho_full": f"rho{st}_full", "MN_full": f"MN{st}_full"}
+                "rho_full": f"rho{st}_full", "Mach_full": f"Mach{st}_full"}
 
     def _keys(self):
         """Local symbols of the gas-state inputs."""
@@ -124,7 +124,7 @@ class NozzleComp(om.ExplicitComponent):
         self.add_output(n["Vjet"], val=500.0 * ones, units="m/s",
                         desc="Effective jet velocity (equals the specific gross thrust; includes the "
                              "pressure thrust and Cv).")
-        self.add_output(n["MN"], val=0.9 * ones, units=None, desc="Mach number at the nozzle exit plane.")
+        self.add_output(n["Mach"], val=0.9 * ones, units=None, desc="Mach number at the nozzle exit plane.")
         self.add_output(n["Ps"], val=101325.0 * ones, units="Pa",
                         desc="Static pressure at the nozzle exit plane.")
         self.add_output(n["area"], val=3.0e-3 * ones, units="m**2*s/kg",
@@ -135,7 +135,7 @@ class NozzleComp(om.ExplicitComponent):
                         desc="Static temperature of the jet fully expanded to Ps0.")
         self.add_output(n["rho_full"], val=0.5 * ones, units="kg/m**3",
                         desc="Density of the jet fully expanded to Ps0.")
-        self.add_output(n["MN_full"], val=0.9 * ones, units=None,
+        self.add_output(n["Mach_full"], val=0.9 * ones, units=None,
                         desc="Mach number of the jet fully expanded to Ps0.")
 
     def setup_partials(self):
@@ -149,7 +149,7 @@ class NozzleComp(om.ExplicitComponent):
                 self.declare_partials(n[of], wrt, rows=ar, cols=ar)
         for wrt in ks + [n["Cd"]]:
             self.declare_partials(n["area"], wrt, rows=ar, cols=ar)
-        for of in ("MN", "V_full", "Ts_full", "rho_full", "MN_full"):
+        for of in ("Mach", "V_full", "Ts_full", "rho_full", "Mach_full"):
             for wrt in ks:
                 self.declare_partials(n[of], wrt, rows=ar, cols=ar)
         if self.options["expansion"] == "convergent":
@@ -229,20 +229,20 @@ class NozzleComp(om.ExplicitComponent):
         flux_full = rho_full * V_full
         dflux_full = {k: drho[k] * V_full + rho_full * dV[k] for k in keys}
 
-        v = {"V_full": V_full, "Ts_full": T_full, "rho_full": rho_full, "MN_full": M_full}
+        v = {"V_full": V_full, "Ts_full": T_full, "rho_full": rho_full, "Mach_full": M_full}
         d = {}
         for k in keys:
             d["V_full", k] = dV[k]
             d["Ts_full", k] = dT[k]
             d["rho_full", k] = drho[k]
-            d["MN_full", k] = dM[k]
+            d["Mach_full", k] = dM[k]
 
         if self.options["expansion"] == "full":
-            v.update(G=V_full, flux=flux_full, MN=M_full)
+            v.update(G=V_full, flux=flux_full, Mach=M_full)
             for k in keys:
                 d["G", k] = dV[k]
                 d["flux", k] = dflux_full[k]
-                d["MN", k] = dM[k]
+                d["Mach", k] = dM[k]
             return v, d
 
         # convergent: sonic state, choked where the critical pressure is at or above ambient
@@ -253,7 +253,7 @@ class NozzleComp(om.ExplicitComponent):
         G_c = star.V + (star.Ps - Ps0) / F
         one = np.ones(Tt.shape, dtype=np.result_type(Tt, Pt, Ps0, far))
         v.update(G=np.where(choked, G_c, V_full), flux=np.where(choked, F, flux_full),
-                 MN=np.where(choked, one, M_full), Ps=np.where(choked, star.Ps, Ps0 * one))
+                 Mach=np.where(choked, one, M_full), Ps=np.where(choked, star.Ps, Ps0 * one))
         for k in keys:
             if k == "Ps0":
                 dG_c = -1.0 / F
@@ -264,7 +264,7 @@ class NozzleComp(om.ExplicitComponent):
                 dPs = sd["Ps", k]
             d["G", k] = np.where(choked, dG_c, dV[k])
             d["flux", k] = np.where(choked, dF, dflux_full[k])
-            d["MN", k] = np.where(choked, 0.0, dM[k])
+            d["Mach", k] = np.where(choked, 0.0, dM[k])
             d["Ps", k] = np.where(choked, dPs, 1.0 if k == "Ps0" else 0.0)
         return v, d
 
@@ -276,10 +276,10 @@ class NozzleComp(om.ExplicitComponent):
         Fg = inputs[n["Cv"]] * v["G"]
         outputs[n["Fg"]] = Fg
         outputs[n["Vjet"]] = Fg
-        outputs[n["MN"]] = v["MN"]
+        outputs[n["Mach"]] = v["Mach"]
         outputs[n["Ps"]] = v["Ps"] if "Ps" in v else inputs["Ps0"]
         outputs[n["area"]] = 1.0 / (inputs[n["Cd"]] * v["flux"])
-        for k in ("V_full", "Ts_full", "rho_full", "MN_full"):
+        for k in ("V_full", "Ts_full", "rho_full", "Mach_full"):
             outputs[n[k]] = v[k]
 
     def compute_partials(self, inputs, partials):
@@ -294,10 +294,10 @@ class NozzleComp(om.ExplicitComponent):
             partials[n["Fg"], wrt] = Cv * d["G", k]
             partials[n["Vjet"], wrt] = Cv * d["G", k]
             partials[n["area"], wrt] = -area * d["flux", k] / v["flux"]
-            partials[n["MN"], wrt] = d["MN", k]
+            partials[n["Mach"], wrt] = d["Mach", k]
             if convergent:
                 partials[n["Ps"], wrt] = d["Ps", k]
-            for of in ("V_full", "Ts_full", "rho_full", "MN_full"):
+            for of in ("V_full", "Ts_full", "rho_full", "Mach_full"):
                 partials[n[of], wrt] = d[of, k]
         partials[n["Fg"], n["Cv"]] = v["G"]
         partials[n["Vjet"], n["Cv"]] = v["G"]

@@ -62,7 +62,7 @@ class InstalledEngineGroup(om.Group):
         self.add_subsystem("nacelle", NacelleGeometryComp(num_nodes=nn), promotes=["*"])
         self.add_subsystem("drag", NacelleDragComp(num_nodes=nn),
                            promotes_inputs=["*", ("V18_jet", "V18_full"), ("rho18_jet", "rho18_full"),
-                                            ("Ts18_jet", "Ts18_full"), ("Mach18_jet", "MN18_full")],
+                                            ("Ts18_jet", "Ts18_full"), ("Mach18_jet", "Mach18_full")],
                            promotes_outputs=["*"])
         self.add_subsystem("installed", InstalledPerformanceComp(num_nodes=nn), promotes=["*"])
         self.add_subsystem("mass", EngineMassComp(num_nodes=nn), promotes=["*"])

@@ -1,6 +1,6 @@
 """bypassopt: analytic-derivative OpenMDAO components for installed turbofan cycle selection."""
 
-__version__ = "0.1.0"
+__version__ = "0.2.0"
 
 CAUTION = (
     "Preliminary-design estimate only. Ground-clearance minima, temperature limits and all other "

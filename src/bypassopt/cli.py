@@ -205,11 +205,11 @@ def build_parser():
                        description="Evaluate one engine design on the scenario's aircraft: installed "
                                    "performance, size, mass, mission fuel and the station table. Writes "
                                    "design.json, design.csv, stations.csv and summary.txt.")
-    p.add_argument("--bpr", type=_float_arg, help="bypass ratio (default: the scenario's initial value)")
-    p.add_argument("--fpr", type=_float_arg, help="fan pressure ratio (default: the scenario's initial value)")
-    p.add_argument("--opr", type=_float_arg, help="overall pressure ratio (default: the scenario's initial value)")
-    p.add_argument("--t4", type=_float_arg, metavar="KELVIN",
-                   help="burner exit temperature in K (default: the scenario's initial value)")
+    p.add_argument("--BPR", type=_float_arg, help="bypass ratio (default: the scenario's initial value)")
+    p.add_argument("--FPR", type=_float_arg, help="fan pressure ratio (default: the scenario's initial value)")
+    p.add_argument("--OPR", type=_float_arg, help="overall pressure ratio (default: the scenario's initial value)")
+    p.add_argument("--Tt4", type=_float_arg, metavar="KELVIN",
+                   help="burner exit total temperature in K (default: the scenario's initial value)")
 
     p = sub.add_parser("optimize", parents=[common], help="find the best installed cycle",
                        description="Find the best installed cycle within the scenario's limits and report the "
@@ -462,7 +462,7 @@ def cmd_evaluate(run, scenario):
 
     args = run.args
     design = {}
-    for opt, key in (("bpr", "BPR"), ("fpr", "FPR"), ("opr", "OPR"), ("t4", "T4_K")):
+    for opt, key in (("BPR", "BPR"), ("FPR", "FPR"), ("OPR", "OPR"), ("Tt4", "Tt4_K")):
         value = getattr(args, opt)
         if value is None:
             continue
@@ -594,7 +594,7 @@ def format_carpet(result):
 
     words = next((d for n, _, d, _ in QUANTITIES if n == name), name)
     lines.append(f"{words[0].upper() + words[1:]} in {units}: BPR across, OPR down.")
-    lines.append(f"{mode[0].upper() + mode[1:]}; T4 {format_number(result['T4'])} K.")
+    lines.append(f"{mode[0].upper() + mode[1:]}; Tt4 {format_number(result['Tt4'])} K.")
     lines.append("A '*' marks a design that breaks a limit; 'failed' one the model cannot evaluate.")
     headers = ["OPR \\ BPR"] + [format_number(b) for b in result["bpr_values"]]
     rows = []
@@ -720,7 +720,7 @@ def check_derivatives(scenario, tolerance=DERIVATIVE_TOLERANCE):
     return {
         "caution": CAUTION,
         "design": {k: float(prob.get_val(v)[0]) for k, v in (("BPR", "BPR"), ("FPR", "FPR"), ("OPR", "OPR"),
-                                                              ("T4_K", "Tt4"))},
+                                                              ("Tt4_K", "Tt4"))},
         "tolerance": tolerance,
         "passed": bool(worst_total <= tolerance and worst_partial <= tolerance),
         "totals": {"max_relative_error": worst_total, "entries": total_rows},
@@ -736,7 +736,7 @@ def format_derivative_check(result):
              textwrap_fill("CAUTION: " + CAUTION), ""]
     d = result["design"]
     lines.append(f"At the scenario's initial design: BPR {format_number(d['BPR'])}, FPR {format_number(d['FPR'])}, "
-                 f"OPR {format_number(d['OPR'])}, T4 {format_number(d['T4_K'])} K.")
+                 f"OPR {format_number(d['OPR'])}, T4 {format_number(d['Tt4_K'])} K.")
     lines.append("")
     lines.append("Total derivatives of the optimisation problem (optimizer scaling; error relative to the "
                  "output's largest derivative)")

@@ -182,7 +182,7 @@ def plot_carpet(result, path, optimum=None):
         mode = f"FPR optimised at each point for least {obj_label} (bounds {lo:g}-{hi:g}; limits not imposed)"
     else:
         mode = f"FPR fixed at {result['fixed_fpr']:g}"
-    ax.set_title(f"{result['scenario_name']}: {obj_label} carpet\n{mode}, T4 = {result['T4']:g} K",
+    ax.set_title(f"{result['scenario']}: {obj_label} carpet\n{mode}, Tt4 = {result['Tt4']:g} K",
                  fontsize=11)
     legend = fig.legend(handles=handles, loc="lower center", bbox_to_anchor=(0.5, 0.03), ncol=1, fontsize=7.5,
                         frameon=False)
@@ -245,7 +245,7 @@ def plot_trade_curve(result, path):
     ax1.legend(handles=handles, loc="lower center", bbox_to_anchor=(0.5, 1.0), ncol=len(handles), fontsize=8,
                frameon=False)
     ax1.grid(alpha=0.3)
-    title = textwrap.wrap(f"{result['scenario_name']}: best installed cycle against the {phrase}", 80)
+    title = textwrap.wrap(f"{result['scenario']}: best installed cycle against the {phrase}", 80)
     fig.suptitle("\n".join(title), fontsize=11)
 
     ax3.axhline(0.0, color="0.5", lw=0.8)

@@ -191,7 +191,7 @@ def station_table(prob, node=0):
     flow["7"] = flow["8"] = w2 * v("W5_frac")
     far = {st: v(f"FAR{st}") for st in ("4", "41", "44", "45", "5")}
     far["7"] = far["8"] = far["5"]
-    statics = {"0": ("Ps0", "Mach0"), "8": ("Ps8", "MN8"), "18": ("Ps18", "MN18")}
+    statics = {"0": ("Ps0", "Mach0"), "8": ("Ps8", "Mach8"), "18": ("Ps18", "Mach18")}
     rows = []
     for st, where in STATIONS:
         src = source.get(st, st)
@@ -452,7 +452,7 @@ def format_summary(summary):
         for name, c in summary["limits"].items():
             words, value, sense, limit = _shown_limit(summary, name, c)
             rows.append((words, format_number(value), f"{sense} {format_number(limit)}",
-                         format_number(c["margin"]), c["units"], "met" if c["met"] else "BROKEN"))
+                         format_number(c["margin"]), c["units"], "met" if c["met"] else "violated"))
         out += text_table(("limit", "value", "limit", "margin", "units", ""), rows, "lrrrll")
         out.append("")
 

@@ -44,13 +44,13 @@ DESIGN_VARIABLES = {
     "BPR": ("BPR", 1.0, 25.0, "bypass ratio"),
     "FPR": ("FPR", 1.1, 3.0, "fan (bypass) pressure ratio"),
     "OPR": ("OPR", 10.0, 80.0, "overall pressure ratio Pt3/Pt2"),
-    "T4_K": ("Tt4", 1100.0, 2200.0, "burner exit total temperature, K"),
+    "Tt4_K": ("Tt4", 1100.0, 2200.0, "burner exit total temperature, K"),
 }
 
 #: Limits that become optimisation constraints: key -> (model output, 'upper'/'lower', description).
 CONSTRAINT_LIMITS = {
-    "max_T41_K": ("Tt41", "upper", "HPT rotor inlet temperature T41"),
-    "max_T3_K": ("Tt3", "upper", "HPC exit temperature T3"),
+    "max_Tt41_K": ("Tt41", "upper", "HPT rotor inlet temperature T41"),
+    "max_Tt3_K": ("Tt3", "upper", "HPC exit temperature T3"),
     "min_core_size_kg_s": ("W3_corrected", "lower", "HPC exit corrected flow (core size)"),
 }
 
@@ -109,8 +109,8 @@ SCHEMA = {
     },
     "limits": {
         "max_nacelle_diameter_m": _num(0.3, 10.0, "largest nacelle diameter allowed", "max_nacelle_diameter"),
-        "max_T41_K": _num(1000.0, 2400.0, "largest HPT rotor inlet temperature (from your engine data)"),
-        "max_T3_K": _num(500.0, 1300.0, "largest HPC exit temperature (from your engine data)"),
+        "max_Tt41_K": _num(1000.0, 2400.0, "largest HPT rotor inlet temperature (from your engine data)"),
+        "max_Tt3_K": _num(500.0, 1300.0, "largest HPC exit temperature (from your engine data)"),
         "min_core_size_kg_s": _num(0.0, 100.0, "smallest HPC exit corrected flow"),
     },
     "engine": {
@@ -123,10 +123,11 @@ SCHEMA = {
         "HP_mech_eff": _num(0.5, 1.0, "HP spool mechanical efficiency", "HP_mech_eff", lo_open=True),
         "LP_mech_eff": _num(0.5, 1.0, "LP spool mechanical efficiency", "LP_mech_eff", lo_open=True),
         "inlet_recovery": _num(0.8, 1.0, "intake total-pressure recovery", "inlet_recovery"),
-        "burner_dPqP": _num(0.0, 0.2, "burner total-pressure loss fraction", "burner_dPqP"),
+        "burner_pressure_loss": _num(0.0, 0.2, "burner total-pressure loss fraction", "burner_pressure_loss"),
         "combustion_eff": _num(0.5, 1.0, "combustion efficiency", "combustion_eff", lo_open=True),
-        "core_duct_dPqP": _num(0.0, 0.2, "core exhaust duct pressure loss fraction", "core_duct_dPqP"),
-        "bypass_duct_dPqP": _num(0.0, 0.2, "bypass duct pressure loss fraction", "bypass_duct_dPqP"),
+        "core_duct_pressure_loss": _num(0.0, 0.2, "core exhaust duct pressure loss fraction",
+                                        "core_duct_pressure_loss"),
+        "bypass_duct_pressure_loss": _num(0.0, 0.2, "bypass duct pressure loss fraction", "bypass_duct_pressure_loss"),
         "core_nozzle_velocity_coeff": _num(0.8, 1.0, "core nozzle velocity coefficient", "core_nozzle_velocity_coeff"),
         "bypass_nozzle_velocity_coeff": _num(0.8, 1.0, "bypass nozzle velocity coefficient",
                                              "bypass_nozzle_velocity_coeff"),
@@ -156,7 +157,7 @@ SCHEMA = {
         "BPR": _num(1.0, 25.0, "bypass ratio of the previous-generation engine"),
         "FPR": _num(1.1, 3.0, "fan pressure ratio of the previous-generation engine"),
         "OPR": _num(10.0, 80.0, "overall pressure ratio of the previous-generation engine"),
-        "T4_K": _num(1100.0, 2200.0, "burner exit temperature of the previous-generation engine"),
+        "Tt4_K": _num(1100.0, 2200.0, "burner exit temperature of the previous-generation engine"),
         "efficiency_drop": _num(0.0, 0.1, "points subtracted from every polytropic efficiency"),
     },
     "optimizer": {
@@ -172,13 +173,25 @@ SCHEMA = {
     },
     "trade": {
         "limit": _str("limit swept by the trade curve",
-                      ("max_nacelle_diameter_m", "wing_height_m", "min_ground_clearance_m", "max_T41_K",
-                       "max_T3_K")),
+                      ("max_nacelle_diameter_m", "wing_height_m", "min_ground_clearance_m", "max_Tt41_K",
+                       "max_Tt3_K")),
         "values": _list(0.0, 1e4, "values of the swept limit (at least 2)"),
     },
 }
 
 _DV_KEYS = {"initial", "lower", "upper", "optimize"}
+
+#: Keys renamed in 0.2 (one name per quantity; loss and Mach names in this project's own words):
+#: (section, old key) -> new key. An old key is an error that names the new one, for one release.
+RENAMED_KEYS = {
+    ("engine", "burner_dPqP"): "burner_pressure_loss",
+    ("engine", "core_duct_dPqP"): "core_duct_pressure_loss",
+    ("engine", "bypass_duct_dPqP"): "bypass_duct_pressure_loss",
+    ("design_variables", "T4_K"): "Tt4_K",
+    ("previous_engine", "T4_K"): "Tt4_K",
+    ("limits", "max_T41_K"): "max_Tt41_K",
+    ("limits", "max_T3_K"): "max_Tt3_K",
+}
 
 
 def _fmt_range(spec):
@@ -265,6 +278,9 @@ def validate(data, base=None):
             raise ScenarioError(f"[{section}] must be a table.")
         out = merged.setdefault(section, {})
         for key, value in table.items():
+            if (section, key) in RENAMED_KEYS:
+                raise ScenarioError(f"{section}.{key} was renamed to {section}.{RENAMED_KEYS[section, key]} in "
+                                    f"bypassopt 0.2; write {RENAMED_KEYS[section, key]} = {value!r} instead.")
             if key not in SCHEMA[section]:
                 raise ScenarioError(f"unknown key {section}.{key}; allowed keys in [{section}]: "
                                     f"{', '.join(SCHEMA[section])}.")
@@ -289,9 +305,9 @@ def _check_consistency(s):
         if ac["empty_mass_no_engines_kg"] + ac["payload_kg"] >= ac["max_takeoff_mass_kg"]:
             raise ScenarioError("infeasible aircraft: empty_mass_no_engines_kg + payload_kg is not below "
                                 "max_takeoff_mass_kg.")
-    if "T4_K" in s.get("design_variables", {}) and "max_T41_K" in lim:
-        if lim["max_T41_K"] <= 1000.0:
-            raise ScenarioError("infeasible limits: limits.max_T41_K must exceed 1000 K.")
+    if "Tt4_K" in s.get("design_variables", {}) and "max_Tt41_K" in lim:
+        if lim["max_Tt41_K"] <= 1000.0:
+            raise ScenarioError("infeasible limits: limits.max_Tt41_K must exceed 1000 K.")
 
 
 def demo_scenario():

@@ -144,7 +144,7 @@ def test_optimize_failed_keeps_files(tmp_path):
 
 
 def test_evaluate(tmp_path):
-    run = bypassopt("evaluate", "--bpr", 12, "--t4", 1600, "--out", "res", "--json", cwd=tmp_path)
+    run = bypassopt("evaluate", "--BPR", 12, "--Tt4", 1600, "--out", "res", "--json", cwd=tmp_path)
     assert run.returncode == 0, run.stderr
     result = json.loads(run.stdout)
     q = result["quantities"]
@@ -230,7 +230,7 @@ def test_check_derivatives_failure_exit_code(tmp_path, capsys, monkeypatch):
 
     def failing(scenario, tolerance):
         comp = {"component": "cycle.hpc", "max_relative_error": 1e-3, "of": "Tt3", "wrt": "OPR"}
-        return {"caution": CAUTION, "design": {"BPR": 10.0, "FPR": 1.5, "OPR": 40.0, "T4_K": 1650.0},
+        return {"caution": CAUTION, "design": {"BPR": 10.0, "FPR": 1.5, "OPR": 40.0, "Tt4_K": 1650.0},
                 "tolerance": tolerance, "passed": False,
                 "totals": {"max_relative_error": 1e-9, "entries": []},
                 "partials": {"max_relative_error": 1e-3, "components": [comp]}}
@@ -286,8 +286,8 @@ def test_bad_scenario_file(tmp_path, text, key):
 
 
 @pytest.mark.parametrize("argv, words", [
-    (["evaluate", "--bpr", "40"], ("--bpr", "40", "25")),
-    (["evaluate", "--fpr", "fast"], ("--fpr", "fast")),
+    (["evaluate", "--BPR", "40"], ("--BPR", "40", "25")),
+    (["evaluate", "--FPR", "fast"], ("--FPR", "fast")),
     (["optimize", "--objective", "range"], ("--objective", "range")),
     (["optimize", "--frobnicate"], ("--frobnicate",)),
     (["launch"], ("launch",)),

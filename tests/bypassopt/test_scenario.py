@@ -73,7 +73,7 @@ def test_model_inputs_units():
     inputs = model_inputs(scenario)
     for (section, key), (var, units) in EXPECTED_UNITS.items():
         assert inputs[var] == (scenario[section][key], units), key
-    assert inputs["Tt4"] == (scenario["design_variables"]["T4_K"]["initial"], "K")
+    assert inputs["Tt4"] == (scenario["design_variables"]["Tt4_K"]["initial"], "K")
     assert inputs["BPR"] == (scenario["design_variables"]["BPR"]["initial"], None)
 
 
@@ -141,7 +141,7 @@ def test_unknown_key(tmp_path):
     ("[design_point]\nmach = 1.2\n", "design_point.mach", "1.2", ("0", "0.95")),
     ("[installation]\nfan_hub_tip_ratio = 0.7\n", "installation.fan_hub_tip_ratio", "0.7", ("0", "0.6")),
     ("[aircraft]\nnum_engines = 6\n", "aircraft.num_engines", "6", ("1", "4")),
-    ("[limits]\nmax_T41_K = 3000.0\n", "limits.max_T41_K", "3000", ("1000", "2400")),
+    ("[limits]\nmax_Tt41_K = 3000.0\n", "limits.max_Tt41_K", "3000", ("1000", "2400")),
     ("[carpet]\nBPR_values = [8.0, 30.0]\n", "carpet.BPR_values[1]", "30", ("1", "25")),
     ("[design_point]\naltitude_m = nan\n", "design_point.altitude_m", "nan", ("0", "20000")),
 ])
@@ -182,8 +182,8 @@ def test_wrong_type_names_allowed_range(tmp_path, text):
     ("[design_variables]\nFPR = { initial = 1.5, lower = 1.3 }\n", ("design_variables.FPR", "upper")),
     ("[design_variables]\nFPR = { initial = 1.5, lower = 1.3, upper = 1.9, start = 1.4 }\n",
      ("design_variables.FPR", "start")),
-    ("[design_variables]\nT4_K = { initial = 1650.0, lower = 1000.0, upper = 1850.0 }\n",
-     ("design_variables.T4_K.lower", "1000", "1100", "2200")),
+    ("[design_variables]\nTt4_K = { initial = 1650.0, lower = 1000.0, upper = 1850.0 }\n",
+     ("design_variables.Tt4_K.lower", "1000", "1100", "2200")),
     ("[design_variables]\nBPR = 10.0\n", ("design_variables.BPR", "table")),
 ])
 def test_bad_design_variable_tables(tmp_path, text, words):
@@ -210,3 +210,22 @@ def test_unreadable_files(tmp_path):
         load_scenario(tmp_path / "missing.toml")
     msg = _error(tmp_path, "[aircraft\nname = 'x'\n")
     assert "not valid TOML" in msg and "scenario.toml" in msg
+
+
+@pytest.mark.parametrize("section, old, new", [
+    ("engine", "burner_dPqP", "burner_pressure_loss"),
+    ("engine", "core_duct_dPqP", "core_duct_pressure_loss"),
+    ("limits", "max_T41_K", "max_Tt41_K"),
+    ("limits", "max_T3_K", "max_Tt3_K"),
+])
+def test_old_key_is_rejected_with_the_new_name(section, old, new):
+    """A key renamed in 0.2 is an error that names its new spelling (kept for one release)."""
+    with pytest.raises(ScenarioError, match=rf"{section}\.{old} was renamed to {section}\.{new}"):
+        validate({section: {old: 0.04 if "dPqP" in old else 1500.0}}, base=demo_scenario())
+
+
+def test_old_design_variable_key_is_rejected_with_the_new_name():
+    """design_variables.T4_K became Tt4_K: one name (Tt4) for the burner exit temperature everywhere."""
+    with pytest.raises(ScenarioError, match=r"design_variables\.T4_K was renamed to design_variables\.Tt4_K"):
+        validate({"design_variables": {"T4_K": {"initial": 1650.0, "lower": 1400.0, "upper": 1800.0}}},
+                 base=demo_scenario())

@@ -40,8 +40,8 @@ def ideal_settings(prob):
                  "lpt_eff_poly", "HP_mech_eff", "LP_mech_eff", "combustion_eff", "inlet_recovery",
                  "core_nozzle_velocity_coeff", "bypass_nozzle_velocity_coeff"):
         prob.set_val(name, 1.0)
-    for name in ("burner_dPqP", "core_duct_dPqP", "bypass_duct_dPqP", "hpt_vane_cooling_frac",
-                 "hpt_rotor_cooling_frac", "customer_bleed_frac", "HP_power_offtake"):
+    for name in ("burner_pressure_loss", "core_duct_pressure_loss", "bypass_duct_pressure_loss",
+                 "hpt_vane_cooling_frac", "hpt_rotor_cooling_frac", "customer_bleed_frac", "HP_power_offtake"):
         prob.set_val(name, 0.0)
     prob.set_val("booster_PR", 1.0)
 

@@ -50,7 +50,7 @@ def test_previous_engine_evaluation_independent(comparison):
     for key in POLYTROPIC_EFFICIENCIES:
         lowered["engine"][key] -= prev["efficiency_drop"]
     prob = build_evaluation_problem(lowered, design={"BPR": prev["BPR"], "FPR": prev["FPR"], "OPR": prev["OPR"],
-                                                     "Tt4": prev["T4_K"]})
+                                                     "Tt4": prev["Tt4_K"]})
     prob.run_model()
     rows = {r["name"]: r for r in comparison["comparison"]}
     for name, units, _ in COMPARED:

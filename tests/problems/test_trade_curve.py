@@ -83,7 +83,7 @@ def test_sentence_and_progress(wing_trade):
 
 def test_constraint_bound_limit_t3(scenario):
     """A T3 limit below the demo optimum's T3 binds; its shadow price matches the re-solved optimum."""
-    result = run_trade_curve(scenario, "max_T3_K", T3_LIMITS)
+    result = run_trade_curve(scenario, "max_Tt3_K", T3_LIMITS)
     assert np.all(result["success"])
     for point, limit in zip(result["points"], T3_LIMITS):
         assert "Tt3" in point["active"]

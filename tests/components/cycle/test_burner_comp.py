@@ -152,10 +152,10 @@ def test_ideal_cycle_without_fuel_mass():
 
 
 def test_pressure_loss():
-    """Pt4 = Pt3 (1 - burner_dPqP) (definition of the burner loss); the default loss is 4 %."""
+    """Pt4 = Pt3 (1 - burner_pressure_loss) (definition of the burner loss); the default loss is 4 %."""
     prob = _problem(2)
     prob.set_val("Pt3", [2.0e6, 3.0e6])
-    prob.set_val("burner_dPqP", [0.04, 0.05])
+    prob.set_val("burner_pressure_loss", [0.04, 0.05])
     prob.run_model()
     np.testing.assert_allclose(prob.get_val("Pt4"), [2.0e6 * 0.96, 3.0e6 * 0.95], rtol=RTOL_EXACT)
 
@@ -171,7 +171,7 @@ def test_partials(nn, include_fuel_mass, gas):
     prob.set_val("Tt3", rng.uniform(600.0, 1100.0, nn))
     prob.set_val("Tt4", rng.uniform(1300.0, 2000.0, nn))
     prob.set_val("Pt3", rng.uniform(1.0e6, 5.0e6, nn))
-    prob.set_val("burner_dPqP", rng.uniform(0.02, 0.06, nn))
+    prob.set_val("burner_pressure_loss", rng.uniform(0.02, 0.06, nn))
     prob.set_val("combustion_eff", rng.uniform(0.98, 1.0, nn))
     prob.set_val("fuel_LHV", rng.uniform(42.0e6, 44.0e6, nn))
     prob.run_model()
@@ -215,7 +215,7 @@ def test_heat_release_below_product_enthalpy():
     ("Tt4", 950.0, r"Tt4 = 950 K .*from 1000 up to 2400 K"),
     ("Tt4", np.nan, r"Tt4 = nan K .*from 1000 up to 2400 K"),
     ("Tt3", 150.0, r"Tt3 = 150 K .*from 200 up to 2400 K"),
-    ("burner_dPqP", 0.3, r"burner_dPqP = 0\.3 .*from 0 up to 0\.2"),
+    ("burner_pressure_loss", 0.3, r"burner_pressure_loss = 0\.3 .*from 0 up to 0\.2"),
     ("combustion_eff", 0.0, r"combustion_eff = 0 .*above 0 up to 1"),
     ("combustion_eff", 1.01, r"combustion_eff = 1\.01 .*above 0 up to 1"),
     ("fuel_LHV", 5.0e6, r"fuel_LHV = 5e\+06 J/kg .*from 1e\+07 up to 1\.5e\+08 J/kg"),

@@ -44,8 +44,8 @@ def ideal_settings(prob):
                  "lpt_eff_poly", "HP_mech_eff", "LP_mech_eff", "combustion_eff", "inlet_recovery",
                  "core_nozzle_velocity_coeff", "bypass_nozzle_velocity_coeff"):
         prob.set_val(name, 1.0)
-    for name in ("burner_dPqP", "core_duct_dPqP", "bypass_duct_dPqP", "hpt_vane_cooling_frac",
-                 "hpt_rotor_cooling_frac", "customer_bleed_frac", "HP_power_offtake"):
+    for name in ("burner_pressure_loss", "core_duct_pressure_loss", "bypass_duct_pressure_loss",
+                 "hpt_vane_cooling_frac", "hpt_rotor_cooling_frac", "customer_bleed_frac", "HP_power_offtake"):
         prob.set_val(name, 0.0)
     prob.set_val("booster_PR", 1.0)
 
@@ -386,7 +386,7 @@ def test_bypass_nozzle_unchoked_and_choked():
     prob = build(2)
     set_demo_cycle(prob, FPR=np.array([1.2, 1.5]))
     prob.run_model()
-    mach, ps18, ps0 = (prob.get_val(k) for k in ("MN18", "Ps18", "Ps0"))
+    mach, ps18, ps0 = (prob.get_val(k) for k in ("Mach18", "Ps18", "Ps0"))
     assert mach[0] < 1.0 and ps18[0] == pytest.approx(ps0[0], rel=1e-12)
     assert mach[1] == pytest.approx(1.0, rel=1e-12) and ps18[1] > 1.01 * ps0[1]
     assert np.all(prob.get_val("Fn_specific") > 0.0)
@@ -458,7 +458,7 @@ BAD_CYCLES = {
     "LPT_work_too_large": ({"BPR": 30.0, "Tt4": 1100.0}, None, "correlation",
                            r"lpt: turbine work .* J/kg is larger than the gas at Tt45 = .* K can give"),
     "net_thrust_not_positive": ({"FPR": 1.02, "BPR": 30.0, "Mach0": 0.9, "Tt4": 1150.0, "OPR": 20.0,
-                                 "bypass_duct_dPqP": 0.08}, None, "correlation",
+                                 "bypass_duct_pressure_loss": 0.08}, None, "correlation",
                                 r"net thrust per unit air flow = -[\d.]+ N\*s/kg .* is not positive"),
 }
 

@@ -28,10 +28,10 @@ def _problem(mode, nn=1):
 
 def test_t41_input_reproduces_t4_input():
     """Setting T41 to the value a T4-driven run produced gives back that T4 and the same cycle."""
-    a = _problem("T4", nn=3)
+    a = _problem("Tt4", nn=3)
     a.set_val("Tt4", np.array([1550.0, 1650.0, 1750.0]), units="K")
     a.run_model()
-    b = _problem("T41", nn=3)
+    b = _problem("Tt41", nn=3)
     b.set_val("Tt41_required", a.get_val("Tt41", units="K"), units="K")
     b.run_model()
     np.testing.assert_allclose(b.get_val("Tt4", units="K"), [1550.0, 1650.0, 1750.0], rtol=RTOL)
@@ -43,7 +43,7 @@ def test_t41_input_reproduces_t4_input():
 
 def test_t41_input_totals_match_complex_step():
     """Totals through the T4 balance (Newton, direct solver) agree with complex step."""
-    prob = _problem("T41")
+    prob = _problem("Tt41")
     prob.set_val("Tt41_required", 1600.0, units="K")
     prob.run_model()
     assert_no_approx_partials(prob.model)

@@ -39,7 +39,7 @@ def test_adiabatic_duct_with_pressure_loss(station_in, station_out, name):
     prob = _problem(2, station_in=station_in, station_out=station_out, name=name)
     prob.set_val(f"Tt{station_in}", Tt, units="K")
     prob.set_val(f"Pt{station_in}", Pt, units="Pa")
-    prob.set_val(f"{name}_dPqP", loss)
+    prob.set_val(f"{name}_pressure_loss", loss)
     prob.run_model()
     np.testing.assert_allclose(prob.get_val(f"Tt{station_out}", units="K"), Tt, rtol=RTOL_EXACT)
     np.testing.assert_allclose(prob.get_val(f"Pt{station_out}", units="Pa"), Pt * (1.0 - loss),
@@ -62,7 +62,7 @@ def test_partials(nn, station_in, station_out, name, gas):
     prob = _problem(nn, gas, station_in, station_out, name)
     prob.set_val(f"Tt{station_in}", rng.uniform(250.0, 1000.0, nn))
     prob.set_val(f"Pt{station_in}", rng.uniform(30000.0, 300000.0, nn))
-    prob.set_val(f"{name}_dPqP", rng.uniform(0.0, 0.05, nn))
+    prob.set_val(f"{name}_pressure_loss", rng.uniform(0.0, 0.05, nn))
     prob.run_model()
     data = prob.check_partials(method="cs", out_stream=None)
     assert_check_partials(data, atol=PARTIALS_TOL, rtol=PARTIALS_TOL)
@@ -72,8 +72,8 @@ def test_partials(nn, station_in, station_out, name, gas):
 def test_bad_loss(value):
     """A loss outside 0-0.2 (or NaN) is refused with the variable and range named."""
     prob = _problem(2, station_in="5", station_out="7", name="core_duct")
-    prob.set_val("core_duct_dPqP", [0.01, value])
-    with pytest.raises(InputRangeError, match=r"core_duct_dPqP = .* at node 1 .*from 0 up to 0\.2"):
+    prob.set_val("core_duct_pressure_loss", [0.01, value])
+    with pytest.raises(InputRangeError, match=r"core_duct_pressure_loss = .* at node 1 .*from 0 up to 0\.2"):
         prob.run_model()
 
 

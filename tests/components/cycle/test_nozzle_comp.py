@@ -65,11 +65,11 @@ def test_calorically_perfect_full_expansion(expansion, gamma, cp):
     rho = Ps0 / (R * Ts)
     np.testing.assert_allclose(prob.get_val("V8_full"), V, rtol=RTOL_EXACT)
     np.testing.assert_allclose(prob.get_val("Ts8_full"), Ts, rtol=RTOL_EXACT)
-    np.testing.assert_allclose(prob.get_val("MN8_full"), M, rtol=RTOL_EXACT)
+    np.testing.assert_allclose(prob.get_val("Mach8_full"), M, rtol=RTOL_EXACT)
     np.testing.assert_allclose(prob.get_val("rho8_full"), rho, rtol=RTOL_EXACT)
     np.testing.assert_allclose(prob.get_val("Fg8_specific"), Cv * V, rtol=RTOL_EXACT)
     np.testing.assert_allclose(prob.get_val("V8_jet"), Cv * V, rtol=RTOL_EXACT)
-    np.testing.assert_allclose(prob.get_val("MN8"), M, rtol=RTOL_EXACT)
+    np.testing.assert_allclose(prob.get_val("Mach8"), M, rtol=RTOL_EXACT)
     np.testing.assert_allclose(prob.get_val("Ps8"), Ps0, rtol=RTOL_EXACT)
     np.testing.assert_allclose(prob.get_val("area8_per_flow"), 1.0 / (Cd * rho * V), rtol=RTOL_EXACT)
 
@@ -89,7 +89,7 @@ def test_calorically_perfect_choked(gamma, cp):
     T_star = 2.0 * Tt / (gamma + 1.0)  # NACA Report 1135, eq. 43 at M = 1
     V_star = np.sqrt(gamma * R * T_star)
     rho_star = P_star / (R * T_star)
-    np.testing.assert_allclose(prob.get_val("MN18"), 1.0, rtol=RTOL_EXACT)
+    np.testing.assert_allclose(prob.get_val("Mach18"), 1.0, rtol=RTOL_EXACT)
     np.testing.assert_allclose(prob.get_val("Ps18"), P_star, rtol=RTOL_EXACT)
     np.testing.assert_allclose(prob.get_val("Fg18_specific"),
                                Cv * (V_star + (P_star - Ps0) / (rho_star * V_star)), rtol=RTOL_EXACT)
@@ -98,7 +98,7 @@ def test_calorically_perfect_choked(gamma, cp):
     # just below the critical ratio the nozzle is unchoked
     prob.set_val("Pt17", crit * 0.999 * Ps0 * np.ones(npr.size))
     prob.run_model()
-    assert np.all(prob.get_val("MN18") < 1.0)
+    assert np.all(prob.get_val("Mach18") < 1.0)
     np.testing.assert_allclose(prob.get_val("Ps18"), Ps0, rtol=RTOL_EXACT)
 
 
@@ -139,7 +139,7 @@ def test_continuity_at_choking(stream, gas_kind):
     prob = _problem(nn=2, gas=gas, stream=stream)
     _set(prob, Tt, npr * Ps0, Ps0, far=far if stream == "core" else None, Cv=Cv, Cd=0.98, stream=stream)
     prob.run_model()
-    mach = prob.get_val(f"MN{st}")
+    mach = prob.get_val(f"Mach{st}")
     assert mach[0] < 1.0 and mach[1] == 1.0  # unchoked, then choked
     of = [f"Fg{st}_specific", f"area{st}_per_flow"]
     wrts = [f"Pt{si}", "Ps0", f"Tt{si}"] + ([f"FAR{si}"] if stream == "core" else [])
@@ -173,7 +173,7 @@ _COMBOS = list(itertools.product(("core", "bypass"), ("convergent", "full"), ("t
 
 
 # check_partials warns about declared partials that are zero at a point: the fuel-air ratio with a
-# calorically perfect gas, and on one side of choking MN (choked) or Ps (unchoked). Expected.
+# calorically perfect gas, and on one side of choking Mach (choked) or Ps (unchoked). Expected.
 @pytest.mark.filterwarnings("ignore::openmdao.utils.om_warnings.DerivativesWarning")
 @pytest.mark.parametrize("stream, expansion, gas_kind", _COMBOS)
 @pytest.mark.parametrize("nn", (1, 4))
