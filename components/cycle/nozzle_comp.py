@@ -37,35 +37,64 @@ class NozzleComp(om.ExplicitComponent):
     (``expansion='full'``, an ideally contoured convergent-divergent nozzle): the exit is always the
     fully expanded state.
 
-    Specific gross thrust per unit nozzle flow (N per kg/s), with velocity coefficient :math:`C_v`:
+    **Gross thrust: velocity and discharge coefficients.** The velocity coefficient :math:`C_v` is the
+    ratio of the actual to the ideal (isentropic) exit velocity and, as the textbooks define it (from
+    memory: Walsh & Fletcher, *Gas Turbine Performance*, nozzle chapter; Saravanamuttoo et al., *Gas
+    Turbine Theory*, propulsive nozzle), it scales the momentum term only; the pressure term acts on
+    the effective exit area per unit flow :math:`A_{e,eff}/W = 1/(\rho_e V_e)` of the ideal isentropic
+    exit state and is not scaled. Specific gross thrust per unit nozzle flow (N per kg/s):
 
-    .. math:: F_{g,sp} = C_v\left(V_e + \frac{p_e - p_0}{\rho_e V_e}\right)
-              \quad(\text{'full': } F_{g,sp} = C_v V_{full}),
+    .. math:: F_{g,sp} = C_v V_e + (p_e - p_0)\frac{A_{e,eff}}{W}
+              = C_v V_e + \frac{p_e - p_0}{\rho_e V_e}
+              \quad(\text{'full' and unchoked: } p_e = p_0,\ F_{g,sp} = C_v V_{full}),
 
-    and exit area per unit flow with discharge coefficient :math:`C_d`:
-    :math:`A_e/W = 1/(C_d \rho_e V_e)`. ``V{throat}_jet`` equals :math:`F_{g,sp}`: the effective jet
-    velocity, i.e. the velocity a fully expanded jet would need to give the same gross thrust (pressure
-    thrust and :math:`C_v` included), so the stream's gross thrust is its flow times ``V{throat}_jet``.
-    The station ``station_throat`` variables (``Mach``, ``Ps``, ``area``) describe the exit plane: the
-    throat of a convergent nozzle, the exit of a fully expanding one. The fully expanded state
-    (``V/Ts/rho/Mach{throat}_full``) is output in both modes for the afterbody scrubbing drag.
+    with :math:`(p_e, \rho_e, V_e)` the ideal isentropic exit state (sonic when choked). The discharge
+    coefficient :math:`C_d` (effective / geometric area, i.e. actual / ideal flow through a given
+    geometric area) only sets the geometric exit area per unit flow,
+    :math:`A_e/W = 1/(C_d \rho_e V_e)`: the flow and its pressure thrust pass through the effective
+    area :math:`C_d A_e`, so :math:`C_d` changes the nozzle size for a given flow, not the thrust per
+    unit flow. (An earlier version of this component scaled the pressure term by :math:`C_v` as well, i.e. used
+    :math:`C_v` as a gross-thrust coefficient.)
 
-    **Smoothness at the choking point.** Let :math:`G(p_e) = V(p_e) + (p_e - p_0)/(\rho(p_e) V(p_e))`
+    ``V{throat}_jet`` equals :math:`F_{g,sp}`: the effective jet velocity, i.e. the velocity a fully
+    expanded jet would need to give the same gross thrust per unit flow (momentum loss :math:`C_v` and
+    unscaled pressure thrust included), so the stream's gross thrust is its flow times
+    ``V{throat}_jet``. The station ``station_throat`` variables (``Mach``, ``Ps``, ``area``) describe
+    the exit plane: the throat of a convergent nozzle, the exit of a fully expanding one. The fully
+    expanded state (``V/Ts/rho/Mach{throat}_full``, ideal, without :math:`C_v`) is output in both modes
+    for the afterbody scrubbing drag.
+
+    **Smoothness at the choking point.** Let :math:`G(p_e) = C_v V(p_e) + (p_e - p_0)/(\rho(p_e) V(p_e))`
     be the thrust of the isentropic stream (fixed :math:`T_t, P_t, f`) expanded to :math:`p_e`. Along the
-    isentrope :math:`V\,dV = -dp/\rho`, so :math:`dG/dp_e = -(p_e - p_0)\,d(1/(\rho V))/dp_e`, which
-    vanishes at :math:`p_e = p_0`. The unchoked thrust is :math:`G(p_0)`, the choked one
-    :math:`G(p^*)`; their difference is therefore :math:`O((p^* - p_0)^2)`, so value and gradient
-    (with respect to :math:`T_t, P_t, p_0, f`) agree where :math:`p^* = p_0`. Explicitly, at fixed
-    :math:`T_t`: unchoked, :math:`h(T_{full})` falls by :math:`R T_{full}\,dP_t/P_t` so
+    isentrope :math:`V\,dV = -dp/\rho`, so
+
+    .. math:: \frac{dG}{dp_e} = \frac{1 - C_v}{\rho V} + (p_e - p_0)\frac{d(1/(\rho V))}{dp_e}.
+
+    The unchoked thrust is :math:`G(p_0)`, the choked one :math:`G(p^*)`; they are equal where
+    :math:`p^* = p_0`, so the **value is continuous**. Differentiating :math:`G(p^*) - G(p_0)` with
+    respect to any input :math:`x` (:math:`T_t, P_t, p_0, f`) at the joint gives the **slope jump**
+
+    .. math:: \Delta\frac{dF_{g,sp}}{dx} = \frac{1 - C_v}{\rho^* V^*}\,\frac{d(p^* - p_0)}{dx},
+
+    which vanishes only for :math:`C_v = 1`. With :math:`C_v = 1` the thrust is :math:`C^1` (explicitly,
+    at fixed :math:`T_t`: unchoked, :math:`h(T_{full})` falls by :math:`R T_{full}\,dP_t/P_t` so
     :math:`dV_{full}/dP_t = p_0/(\rho_{full} V_{full} P_t)`; choked, :math:`V^*` is fixed and
-    :math:`p^*, \rho^* \propto P_t`, so :math:`d/dP_t[(p^* - p_0)/(\rho^* V^*)] = p^*/(P_t \rho^* V^*)`
-    at :math:`p^* = p_0`. At the joint :math:`\rho_{full} = \rho^*`, :math:`V_{full} = V^*`, so both
-    slopes equal :math:`p_0/(\rho^* V^* P_t)`. The exit flow per area :math:`\rho_e V_e` is also
-    :math:`C^1` (the mass-flux function is stationary at Mach 1, so both branches have slope
-    :math:`\rho^* V^*/P_t` in :math:`P_t`). The branch is selected with ``np.where`` on the real pressure
-    ratio. The exit Mach number and exit static pressure are continuous but their slopes jump at
-    choking (they are pinned at 1 and :math:`p_0` on either side): that is the physics, not a
-    numerical artefact.
+    :math:`p^*, \rho^* \propto P_t`, so :math:`d/dP_t[(p^* - p_0)/(\rho^* V^*)] = p^*/(P_t \rho^* V^*)`;
+    at the joint both are :math:`p_0/(\rho^* V^* P_t)`). With :math:`C_v < 1` the gradient of the gross
+    thrust is **not** continuous at choking: the unchoked slope in :math:`P_t` is
+    :math:`C_v p_0/(\rho^* V^* P_t)`, the choked one :math:`p_0/(\rho^* V^* P_t)` (ratio :math:`1/C_v`,
+    1 % for :math:`C_v = 0.99`); in :math:`p_0` they are :math:`-C_v/(\rho^* V^*)` and
+    :math:`-1/(\rho^* V^*)`. As elasticities :math:`(P_t/F_{g,sp})\,dF_{g,sp}/dP_t`, using
+    :math:`\rho^* V^{*2} = \gamma^* p^*`, they are :math:`1/\gamma^*` and :math:`1/(C_v\gamma^*)`, a jump
+    of :math:`(1 - C_v)/(C_v\gamma^*)` (0.0076 for :math:`C_v = 0.99`, :math:`\gamma^* = 1.33`). This
+    kink belongs to the textbook loss model (the momentum of the extra expansion :math:`V_{full} - V^*`
+    carries the loss, the pressure thrust that replaces it when choked does not), not to the numerics;
+    an optimizer only meets it if a design crosses the critical pressure ratio. The exit flow per area
+    :math:`\rho_e V_e` (hence ``area``) does not involve :math:`C_v` and stays :math:`C^1` (the
+    mass-flux function is stationary at Mach 1, so both branches have slope :math:`\rho^* V^*/P_t` in
+    :math:`P_t`). The branch is selected with ``np.where`` on the real pressure ratio. The exit Mach
+    number and exit static pressure are continuous but their slopes jump at choking (they are pinned at
+    1 and :math:`p_0` on either side): that is the physics, not a numerical artefact.
 
     Valid range: :math:`P_t/p_0 > 1` (else ``InputRangeError``: the stream cannot produce thrust);
     :math:`T_t`, the fully expanded and (convergent) sonic static temperatures inside the gas model's
@@ -114,16 +143,18 @@ class NozzleComp(om.ExplicitComponent):
             self.add_input(n["far"], val=0.025 * ones, units=None, desc="Fuel-air ratio of the core stream.")
         self.add_input("Ps0", val=101325.0 * ones, units="Pa", desc="Ambient static pressure.")
         self.add_input(n["Cv"], val=0.99 * ones, units=None,
-                       desc="Nozzle velocity (thrust) coefficient: actual / ideal gross thrust.")
+                       desc="Nozzle velocity coefficient: actual / ideal (isentropic) exit velocity; "
+                            "scales the momentum term only.")
         self.add_input(n["Cd"], val=0.98 * ones, units=None,
-                       desc="Nozzle discharge coefficient: actual / ideal flow through the exit area.")
+                       desc="Nozzle discharge coefficient: actual / ideal flow through the exit area "
+                            "(effective / geometric area); sets the area, not the thrust per flow.")
 
         self.add_output(n["Fg"], val=500.0 * ones, units="N*s/kg",
                         desc="Gross thrust per unit nozzle flow, "
-                             "Cv*(V_exit + (P_exit - Ps0)/(rho_exit*V_exit)).")
+                             "Cv*V_exit + (P_exit - Ps0)/(rho_exit*V_exit) (ideal isentropic exit state).")
         self.add_output(n["Vjet"], val=500.0 * ones, units="m/s",
-                        desc="Effective jet velocity (equals the specific gross thrust; includes the "
-                             "pressure thrust and Cv).")
+                        desc="Effective jet velocity (equals the specific gross thrust: Cv times the exit "
+                             "velocity plus the unscaled pressure thrust per unit flow).")
         self.add_output(n["Mach"], val=0.9 * ones, units=None, desc="Mach number at the nozzle exit plane.")
         self.add_output(n["Ps"], val=101325.0 * ones, units="Pa",
                         desc="Static pressure at the nozzle exit plane.")
@@ -238,9 +269,11 @@ class NozzleComp(om.ExplicitComponent):
             d["Mach_full", k] = dM[k]
 
         if self.options["expansion"] == "full":
-            v.update(G=V_full, flux=flux_full, Mach=M_full)
+            zero = np.zeros(Tt.shape, dtype=np.result_type(Tt, Pt, Ps0, far))
+            v.update(Ve=V_full, Pth=zero, flux=flux_full, Mach=M_full)
             for k in keys:
-                d["G", k] = dV[k]
+                d["Ve", k] = dV[k]
+                d["Pth", k] = zero
                 d["flux", k] = dflux_full[k]
                 d["Mach", k] = dM[k]
             return v, d
@@ -250,19 +283,24 @@ class NozzleComp(om.ExplicitComponent):
         sd = star.d
         F = star.W_per_A
         choked = np.real(star.Ps) >= np.real(Ps0)
-        G_c = star.V + (star.Ps - Ps0) / F
+        # pressure thrust per unit flow (p* - p0)/(rho* V*) when choked; zero (p_e = p0) when not
+        Pth_c = (star.Ps - Ps0) / F
         one = np.ones(Tt.shape, dtype=np.result_type(Tt, Pt, Ps0, far))
-        v.update(G=np.where(choked, G_c, V_full), flux=np.where(choked, F, flux_full),
+        v.update(Ve=np.where(choked, star.V, V_full), Pth=np.where(choked, Pth_c, 0.0 * one),
+                 flux=np.where(choked, F, flux_full),
                  Mach=np.where(choked, one, M_full), Ps=np.where(choked, star.Ps, Ps0 * one))
         for k in keys:
             if k == "Ps0":
-                dG_c = -1.0 / F
+                dV_c = 0.0
+                dPth_c = -1.0 / F
                 dF = dPs = 0.0
             else:
-                dG_c = sd["V", k] + sd["Ps", k] / F - (star.Ps - Ps0) * sd["W_per_A", k] / F**2
+                dV_c = sd["V", k]
+                dPth_c = sd["Ps", k] / F - Pth_c * sd["W_per_A", k] / F
                 dF = sd["W_per_A", k]
                 dPs = sd["Ps", k]
-            d["G", k] = np.where(choked, dG_c, dV[k])
+            d["Ve", k] = np.where(choked, dV_c, dV[k])
+            d["Pth", k] = np.where(choked, dPth_c, 0.0)
             d["flux", k] = np.where(choked, dF, dflux_full[k])
             d["Mach", k] = np.where(choked, 0.0, dM[k])
             d["Ps", k] = np.where(choked, dPs, 1.0 if k == "Ps0" else 0.0)
@@ -273,7 +311,7 @@ class NozzleComp(om.ExplicitComponent):
         self._check(inputs)
         n = self._names()
         v, _ = self._evaluate(inputs)
-        Fg = inputs[n["Cv"]] * v["G"]
+        Fg = inputs[n["Cv"]] * v["Ve"] + v["Pth"]
         outputs[n["Fg"]] = Fg
         outputs[n["Vjet"]] = Fg
         outputs[n["Mach"]] = v["Mach"]
@@ -291,14 +329,15 @@ class NozzleComp(om.ExplicitComponent):
         convergent = self.options["expansion"] == "convergent"
         for k in self._keys():
             wrt = n[k]
-            partials[n["Fg"], wrt] = Cv * d["G", k]
-            partials[n["Vjet"], wrt] = Cv * d["G", k]
+            dFg = Cv * d["Ve", k] + d["Pth", k]
+            partials[n["Fg"], wrt] = dFg
+            partials[n["Vjet"], wrt] = dFg
             partials[n["area"], wrt] = -area * d["flux", k] / v["flux"]
             partials[n["Mach"], wrt] = d["Mach", k]
             if convergent:
                 partials[n["Ps"], wrt] = d["Ps", k]
             for of in ("V_full", "Ts_full", "rho_full", "Mach_full"):
                 partials[n[of], wrt] = d[of, k]
-        partials[n["Fg"], n["Cv"]] = v["G"]
-        partials[n["Vjet"], n["Cv"]] = v["G"]
+        partials[n["Fg"], n["Cv"]] = v["Ve"]
+        partials[n["Vjet"], n["Cv"]] = v["Ve"]
         partials[n["area"], n["Cd"]] = -area / Cd

@@ -15,6 +15,8 @@ from bypassopt.components.validation import InputRangeError
 RTOL_EXACT = 1e-11
 # Field-reference 4.3 gives V9 and V19 to 6 significant digits.
 RTOL_FIELD_REF = 3e-6
+# Hand calculation of the choked nozzle with a calorically perfect gas (closed-form relations).
+RTOL_HAND = 1e-12
 # Offset of the test points from the choking pressure ratio, and the agreement required of value and
 # slope on either side (the second derivative jumps at choking, so slopes differ by O(offset)).
 CHOKE_OFFSET = 1e-7
@@ -92,7 +94,7 @@ def test_calorically_perfect_choked(gamma, cp):
     np.testing.assert_allclose(prob.get_val("Mach18"), 1.0, rtol=RTOL_EXACT)
     np.testing.assert_allclose(prob.get_val("Ps18"), P_star, rtol=RTOL_EXACT)
     np.testing.assert_allclose(prob.get_val("Fg18_specific"),
-                               Cv * (V_star + (P_star - Ps0) / (rho_star * V_star)), rtol=RTOL_EXACT)
+                               Cv * V_star + (P_star - Ps0) / (rho_star * V_star), rtol=RTOL_EXACT)
     np.testing.assert_allclose(prob.get_val("area18_per_flow"), 1.0 / (Cd * rho_star * V_star),
                                rtol=RTOL_EXACT)
     # just below the critical ratio the nozzle is unchoked
@@ -100,6 +102,49 @@ def test_calorically_perfect_choked(gamma, cp):
     prob.run_model()
     assert np.all(prob.get_val("Mach18") < 1.0)
     np.testing.assert_allclose(prob.get_val("Ps18"), Ps0, rtol=RTOL_EXACT)
+
+
+def test_choked_hand_calculation_velocity_coefficient_on_momentum_only():
+    """Choked convergent nozzle, Cv = 0.98: Fg_sp = Cv V* + (p* - p0)/(rho* V*), by hand.
+
+    Sonic state of a calorically perfect gas from the isentropic relations of NACA Report 1135 (eqs. 43
+    and 44 at M = 1): T*/Tt = 2/(g+1), p*/Pt = (2/(g+1))^(g/(g-1)), V* = a* = sqrt(g R T*),
+    rho* = p*/(R T*). The velocity coefficient scales the momentum term only (textbook definition,
+    Walsh & Fletcher, *Gas Turbine Performance*, from memory); the discharge coefficient sets the
+    geometric area 1/(Cd rho* V*) and leaves the thrust per unit flow unchanged.
+    """
+    gamma, cp = 1.4, 1004.5
+    R = cp * (gamma - 1.0) / gamma
+    Tt, Ps0, npr = 800.0, 30000.0, 2.5
+    Pt = npr * Ps0
+    T_star = Tt * 2.0 / (gamma + 1.0)  # NACA Report 1135, eq. 43 at M = 1
+    p_star = Pt * (2.0 / (gamma + 1.0)) ** (gamma / (gamma - 1.0))  # NACA Report 1135, eq. 44 at M = 1
+    V_star = np.sqrt(gamma * R * T_star)  # speed of sound at T*
+    rho_star = p_star / (R * T_star)  # perfect-gas law
+    pressure_term = (p_star - Ps0) / (rho_star * V_star)  # (p* - p0) A_eff/W, A_eff/W = 1/(rho* V*)
+
+    gas = CaloricallyPerfectGas(cp=cp, gamma=gamma)
+    prob = _problem(nn=4, gas=gas)
+    Cv = np.array([0.98, 1.0, 0.98, 0.98])
+    Cd = np.array([0.97, 0.97, 1.0, 0.9])
+    _set(prob, Tt, Pt, Ps0, far=0.02, Cv=Cv, Cd=Cd)
+    prob.run_model()
+    Fg = prob.get_val("Fg8_specific")
+    assert np.all(prob.get_val("Mach8") == 1.0)
+    np.testing.assert_allclose(prob.get_val("Ps8"), p_star, rtol=RTOL_HAND)
+    np.testing.assert_allclose(Fg, Cv * V_star + pressure_term, rtol=RTOL_HAND)
+    np.testing.assert_allclose(prob.get_val("V8_jet"), Fg, rtol=0.0, atol=0.0)
+    np.testing.assert_allclose(prob.get_val("area8_per_flow"), 1.0 / (Cd * rho_star * V_star), rtol=RTOL_HAND)
+    # Cv = 1 vs 0.98 (same Cd): only the momentum term differs, by 0.02 V*; the pressure term is
+    # the same and unscaled
+    np.testing.assert_allclose(Fg[1] - Fg[0], 0.02 * V_star, rtol=1e-10)
+    np.testing.assert_allclose(Fg - Cv * V_star, pressure_term, rtol=1e-10)
+    # Cd does not change the thrust per unit flow
+    np.testing.assert_allclose(Fg[2:], Fg[0], rtol=RTOL_HAND)
+    # dFg/dCv = V* (the ideal exit velocity), dFg/dCd = 0 (not declared)
+    J = prob.compute_totals(of=["Fg8_specific"], wrt=["core_nozzle_velocity_coeff"])
+    np.testing.assert_allclose(np.diag(J["Fg8_specific", "core_nozzle_velocity_coeff"]), V_star,
+                               rtol=RTOL_HAND)
 
 
 def test_ideal_turbofan_jet_velocities_field_reference():
@@ -126,12 +171,18 @@ def test_ideal_turbofan_jet_velocities_field_reference():
     assert core.get_val("V8_jet")[0] == pytest.approx(780.408, rel=RTOL_FIELD_REF)  # field-reference 4.3
 
 
+@pytest.mark.parametrize("Cv", (1.0, 0.99))
 @pytest.mark.parametrize("stream, gas_kind", list(itertools.product(("core", "bypass"), ("tpg", "cpg"))))
-def test_continuity_at_choking(stream, gas_kind):
-    """Gross thrust and exit area per flow: value and slope wrt Pt agree on both sides of choking."""
+def test_continuity_at_choking(stream, gas_kind, Cv):
+    """Across choking: thrust and exit area continuous; area C1; thrust C1 only for Cv = 1.
+
+    With the velocity coefficient on the momentum term only, the slope of the gross thrust jumps at
+    choking by (1 - Cv)/(rho* V*) d(p* - p0)/dx (NozzleComp docstring): zero for Cv = 1, measured and
+    checked against that formula for Cv = 0.99 (about 1 % of the slope in Pt and Ps0).
+    """
     gas = ThermallyPerfectGas() if gas_kind == "tpg" else CaloricallyPerfectGas(cp=1150.0, gamma=1.33)
     Tt, far = (750.0, 0.02) if stream == "core" else (300.0, 0.0)
-    Ps0, Cv = 24000.0, 0.99
+    Ps0 = 24000.0
     star = sonic(gas, Tt, 1.0e5, far)
     crit = 1.0e5 / float(star.Ps)
     npr = crit * np.array([1.0 - CHOKE_OFFSET, 1.0 + CHOKE_OFFSET])
@@ -141,24 +192,38 @@ def test_continuity_at_choking(stream, gas_kind):
     prob.run_model()
     mach = prob.get_val(f"Mach{st}")
     assert mach[0] < 1.0 and mach[1] == 1.0  # unchoked, then choked
-    of = [f"Fg{st}_specific", f"area{st}_per_flow"]
+    fg, area = f"Fg{st}_specific", f"area{st}_per_flow"
     wrts = [f"Pt{si}", "Ps0", f"Tt{si}"] + ([f"FAR{si}"] if stream == "core" else [])
-    J = prob.compute_totals(of=of, wrt=wrts)
-    for name in of:
+    J = prob.compute_totals(of=[fg, area], wrt=wrts)
+    for name in (fg, area):
         val = prob.get_val(name)
         np.testing.assert_allclose(val[0], val[1], rtol=RTOL_CONTINUITY)
-        for wrt in wrts:
-            # compared as elasticities (x/y) dy/dx: some slopes vanish at the joint (e.g. the exit
-            # area of the choked nozzle does not depend on Ps0), so a pure relative test is ill-posed
-            elasticity = np.diag(J[name, wrt]) * prob.get_val(wrt) / val
-            np.testing.assert_allclose(elasticity[0], elasticity[1], rtol=RTOL_CONTINUITY,
-                                       atol=RTOL_CONTINUITY)
-    # the common slope of the thrust is Cv Ps0/(rho* V* Pt) (NozzleComp docstring proof)
-    Pt = npr[1] * Ps0
-    star = sonic(gas, Tt, Pt, far)
-    expected = Cv * Ps0 / (star.rho * star.V * Pt)
-    slope = np.diag(J[f"Fg{st}_specific", f"Pt{si}"])
-    np.testing.assert_allclose(slope, expected, rtol=RTOL_CONTINUITY)
+    # sonic state at the joint (p* = Ps0) and d(p* - p0)/dx there
+    Pt_joint = crit * Ps0
+    star = sonic(gas, Tt, Pt_joint, far)
+    rho_V = float(star.rho * star.V)
+    dp_star = {f"Pt{si}": star.d["Ps", "Pt"], "Ps0": -1.0, f"Tt{si}": star.d["Ps", "Tt"],
+               f"FAR{si}": star.d["Ps", "far"]}
+    for wrt in wrts:
+        x = prob.get_val(wrt)
+        # exit area: compared as elasticities (x/y) dy/dx (its Ps0 slope vanishes when choked)
+        e_area = np.diag(J[area, wrt]) * x / prob.get_val(area)
+        np.testing.assert_allclose(e_area[0], e_area[1], rtol=RTOL_CONTINUITY, atol=RTOL_CONTINUITY)
+        # gross thrust: choked minus unchoked slope
+        slope = np.diag(J[fg, wrt])
+        jump = slope[1] - slope[0]
+        expected = (1.0 - Cv) / rho_V * float(np.real(dp_star[wrt]))
+        scale = np.max(np.abs(slope))
+        np.testing.assert_allclose(jump, expected, rtol=0.0, atol=RTOL_CONTINUITY * scale)
+    # slopes in Pt: unchoked Cv Ps0/(rho* V* Pt), choked Ps0/(rho* V* Pt) (NozzleComp docstring)
+    slope = np.diag(J[fg, f"Pt{si}"])
+    np.testing.assert_allclose(slope, np.array([Cv, 1.0]) * Ps0 / (rho_V * Pt_joint), rtol=RTOL_CONTINUITY)
+    # as elasticities 1/gamma* and 1/(Cv gamma*): a jump of (1 - Cv)/(Cv gamma*) (0 for Cv = 1,
+    # 0.0075 to 0.0077 for Cv = 0.99 and gamma* = 1.31 to 1.40)
+    gamma_star = float(star.rho * star.V**2 / star.Ps)
+    elasticity = slope * npr * Ps0 / prob.get_val(fg)
+    np.testing.assert_allclose(elasticity[1] - elasticity[0], (1.0 - Cv) / (Cv * gamma_star),
+                               rtol=0.0, atol=RTOL_CONTINUITY)
 
 
 def _random_state(rng, nn, stream, npr):
