@@ -102,7 +102,7 @@ def base_values():
     """
     values = {}
     demo = build_evaluation_problem()
-    aircraft = build_embedding_problem(optimize=False)
+    aircraft = build_embedding_problem(optimize=False, force_alloc_complex=True)
     for prob in (demo, aircraft):
         prob.run_model()
         for abs_name, meta in prob.model.get_io_metadata(iotypes="input", metadata_keys=["units"]).items():

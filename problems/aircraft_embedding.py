@@ -5,7 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.components.installation.installed_engine_group import InstalledEngineGroup
-from bypassopt.problems.best_cycle import _LIMIT_SCALING, GEOMETRY_CONSTRAINTS, OBJECTIVES
+from bypassopt.problems.best_cycle import _LIMIT_SCALING, GEOMETRY_CONSTRAINTS, OBJECTIVES, OPENMDAO_DEFAULT
 from bypassopt.problems.drivers import make_driver
 from bypassopt.scenario import CONSTRAINT_LIMITS, DESIGN_VARIABLES, load_scenario, model_inputs
 from bypassopt.components.validation import check_range
@@ -310,7 +310,7 @@ def apply_scenario_to_aircraft(prob, scenario):
         prob.set_val(target, np.full(nn, float(value)), units=units)
 
 
-def build_embedding_problem(optimize=True, scenario=None):
+def build_embedding_problem(optimize=True, scenario=None, reports=OPENMDAO_DEFAULT, force_alloc_complex=False):
     """Ready aircraft-sizing problem with the installed engine embedded (set up, scenario applied, not run).
 
     With ``optimize=True`` it minimises the design-mission fuel over BPR, FPR, OPR (the scenario's
@@ -326,9 +326,14 @@ def build_embedding_problem(optimize=True, scenario=None):
         Add the driver, design variables, objective and constraints.
     scenario : dict or None
         Validated scenario (``bypassopt.scenario.load_scenario``); None gives the demo.
+    reports : bool or str or None
+        Passed to ``om.Problem``; left out, OpenMDAO's default applies.
+    force_alloc_complex : bool
+        Allocate complex vectors (only for complex-step checks).
     """
     scenario = scenario or load_scenario()
-    prob = om.Problem(AircraftSizingGroup(num_engines=scenario["aircraft"]["num_engines"]), reports=False)
+    model = AircraftSizingGroup(num_engines=scenario["aircraft"]["num_engines"])
+    prob = om.Problem(model) if reports is OPENMDAO_DEFAULT else om.Problem(model, reports=reports)
     model = prob.model
     if optimize:
         opt = scenario["optimizer"]
@@ -347,7 +352,7 @@ def build_embedding_problem(optimize=True, scenario=None):
             cunits, cref = _LIMIT_SCALING[var]
             bound = {"upper": scenario["limits"][key]} if kind == "upper" else {"lower": scenario["limits"][key]}
             model.add_constraint(var, units=cunits, ref=cref, **bound)
-    prob.setup(force_alloc_complex=True)
+    prob.setup(force_alloc_complex=force_alloc_complex)
     apply_scenario_to_aircraft(prob, scenario)
     prob.set_val("wing_loading", 600.0, units="kg/m**2")
     return prob

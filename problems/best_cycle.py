@@ -1,5 +1,7 @@
 """Best installed cycle: minimise mission fuel (or installed TSFC) over BPR, OPR, FPR and T4 under limits."""
 
+from dataclasses import dataclass, field
+
 import openmdao.api as om
 
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
@@ -27,12 +29,56 @@ def gas_for(scenario):
     return ThermallyPerfectGas(hc_ratio=scenario["engine"].get("fuel_hc_ratio", 1.92))
 
 
-def apply_scenario(prob, scenario, skip=()):
-    """Set every promoted model input the scenario defines (broadcast over the problem's nodes)."""
+#: ``reports=`` left at this value means OpenMDAO's own default (its reports on, unless the environment
+#: variable ``OPENMDAO_REPORTS`` turns them off).
+OPENMDAO_DEFAULT = object()
+
+
+@dataclass(frozen=True)
+class BestCycleSettings:
+    """What a best-cycle problem was built with (returned beside the problem by ``build_best_cycle_problem``).
+
+    Attributes
+    ----------
+    scenario : dict
+        The validated scenario.
+    objective : str
+        Name of the objective choice (a key of ``OBJECTIVES``).
+    limits : dict
+        {model output: (kind, limit, units)} of the constraints; kind 'lower' means output >= limit.
+    design_vars : dict
+        {model input: {initial, lower, upper, optimize}} of the free design variables.
+    """
+
+    scenario: dict
+    objective: str
+    limits: dict = field(default_factory=dict)
+    design_vars: dict = field(default_factory=dict)
+
+
+def _problem(model, reports):
+    return om.Problem(model) if reports is OPENMDAO_DEFAULT else om.Problem(model, reports=reports)
+
+
+def apply_scenario(prob, scenario, skip=(), prefix=""):
+    """Set every model input the scenario defines (broadcast over the problem's nodes).
+
+    Parameters
+    ----------
+    prob : om.Problem
+        A set-up problem holding an ``InstalledEngineGroup`` (or the carpet/embedding groups).
+    scenario : dict
+        Validated scenario (``bypassopt.scenario.load_scenario``).
+    skip : iterable of str
+        Model input names left alone.
+    prefix : str
+        Path of the engine group in a larger model whose inputs are not promoted to the top, e.g.
+        ``"aircraft.engine."``; the inputs are then set as ``prefix + name``.
+    """
     for name, (value, units) in model_inputs(scenario).items():
         if name in skip:
             continue
-        prob.set_val(name, value, units=units)
+        prob.set_val(prefix + name, value, units=units)
 
 
 def build_installed_model(scenario, num_nodes=1):
@@ -41,7 +87,8 @@ def build_installed_model(scenario, num_nodes=1):
                                 num_engines=scenario["aircraft"]["num_engines"])
 
 
-def build_evaluation_problem(scenario=None, num_nodes=1, design=None):
+def build_evaluation_problem(scenario=None, num_nodes=1, design=None, reports=OPENMDAO_DEFAULT,
+                             force_alloc_complex=False):
     """Return a set-up problem of the installed engine (no driver) with the scenario applied.
 
     Parameters
@@ -52,18 +99,23 @@ def build_evaluation_problem(scenario=None, num_nodes=1, design=None):
         Designs evaluated at once.
     design : dict or None
         Design-variable overrides {model input: value or array}, e.g. {'BPR': 11.0}.
+    reports : bool or str or None
+        Passed to ``om.Problem``; left out, OpenMDAO's default applies (the CLI passes False).
+    force_alloc_complex : bool
+        Allocate complex vectors (only for complex-step checks; it costs memory and time).
     """
     scenario = scenario or load_scenario()
-    prob = om.Problem(build_installed_model(scenario, num_nodes), reports=False)
-    prob.setup(force_alloc_complex=True)
+    prob = _problem(build_installed_model(scenario, num_nodes), reports)
+    prob.setup(force_alloc_complex=force_alloc_complex)
     apply_scenario(prob, scenario)
     for name, value in (design or {}).items():
         prob.set_val(name, value)
     return prob
 
 
-def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorder_path=None):
-    """Ready best-installed-cycle optimisation problem (set up, scenario applied, not run).
+def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorder_path=None,
+                             reports=OPENMDAO_DEFAULT, force_alloc_complex=False):
+    """Ready best-installed-cycle optimisation problem (set up, scenario applied, not run), and its settings.
 
     Minimises ``mission_fuel`` (or ``installed_TSFC``) over the design variables the scenario marks
     ``optimize = true`` (BPR, OPR, optionally FPR and T4), subject to nacelle ground-clearance margin
@@ -81,13 +133,24 @@ def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorde
         'SLSQP' (SciPy), or 'SNOPT', 'IPOPT', 'pyoptsparse-SLSQP' when pyoptsparse is installed.
     recorder_path : str or None
         SQLite file for OpenMDAO's case recorder (driver iterations, readable with ``om.CaseReader``).
+    reports : bool or str or None
+        Passed to ``om.Problem``; left out, OpenMDAO's default applies (the CLI passes False).
+    force_alloc_complex : bool
+        Allocate complex vectors (only for complex-step checks).
+
+    Returns
+    -------
+    prob : om.Problem
+        The problem, with its driver, design variables, objective and constraints.
+    settings : BestCycleSettings
+        Scenario, objective, limits and free design variables, as ``kkt_analysis`` and the reports need them.
     """
     scenario = scenario or load_scenario()
     opt = scenario["optimizer"]
     objective = objective or opt["objective"]
     if objective not in OBJECTIVES:
         raise ScenarioError(f"objective {objective!r} is not one of {', '.join(OBJECTIVES)}")
-    prob = om.Problem(build_installed_model(scenario), reports=False)
+    prob = _problem(build_installed_model(scenario), reports)
     prob.driver = make_driver(driver or opt["driver"], opt["maxiter"], opt["tol"])
     model = prob.model
     free = []
@@ -119,16 +182,8 @@ def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorde
         prob.driver.recording_options["record_desvars"] = True
         prob.driver.recording_options["record_objectives"] = True
         prob.driver.recording_options["record_constraints"] = True
-    prob.setup(force_alloc_complex=True)
+    prob.setup(force_alloc_complex=force_alloc_complex)
     apply_scenario(prob, scenario)
-    prob.bypassopt_scenario = scenario
-    prob.bypassopt_objective = objective
-    prob.bypassopt_limits = limits
-    prob.bypassopt_design_vars = {var: scenario["design_variables"][key] for key, (var, _, _, _)
-                                  in DESIGN_VARIABLES.items() if scenario["design_variables"][key]["optimize"]}
-    return prob
-
-
-def constraint_limits(prob):
-    """{model output: (kind, limit, units)} of a best-cycle problem's constraints ('lower': output >= limit)."""
-    return dict(prob.bypassopt_limits)
+    design_vars = {var: scenario["design_variables"][key] for key, (var, _, _, _)
+                   in DESIGN_VARIABLES.items() if scenario["design_variables"][key]["optimize"]}
+    return prob, BestCycleSettings(scenario=scenario, objective=objective, limits=limits, design_vars=design_vars)

@@ -112,7 +112,7 @@ class _BatchEvaluator:
         """(problem with n nodes, whether it is freshly set up); one problem per size is reused."""
         if n not in self._problems:
             prob = om.Problem(CarpetModelGroup(scenario=self.scenario, num_nodes=n), reports=False)
-            prob.setup(force_alloc_complex=True)
+            prob.setup()
             apply_scenario(prob, self.scenario)
             self._problems[n] = prob
             return prob, True
@@ -210,14 +210,15 @@ def _optimise_fpr(scenario, objective, bpr, opr, fpr_start, progress_step):
     prob.model.add_design_var("FPR", lower=lower, upper=upper, ref0=lower, ref=upper)
     _, _, ref = OBJECTIVES[objective]
     prob.model.add_objective("objective_sum", ref=ref)
-    prob.setup(force_alloc_complex=True)
+    prob.setup()
     apply_scenario(prob, scenario)
     prob.set_val("BPR", bpr)
     prob.set_val("OPR", opr)
     x = _secant_start(prob, fpr_start, lower, upper)
     progress_step("optimising FPR at every point (SLSQP on the summed objective)")
-    success = bool(prob.run_driver().success)
-    result = prob.driver._scipy_optimize_result
+    prob.run_driver()
+    result = prob.driver.optimizer_result
+    success = bool(result.success)
     fpr = np.clip(np.asarray(result.x, dtype=float) * (upper - lower) + lower, lower, upper)
     failed_evaluations = prob.driver.failed_evaluations
     prob.set_val("FPR", fpr)
@@ -226,7 +227,7 @@ def _optimise_fpr(scenario, objective, bpr, opr, fpr_start, progress_step):
     except om.AnalysisError:  # the returned point was not the last good one: the caller re-evaluates
         prob = None
     info = {"success": success, "message": str(result.message), "iterations": int(result.nit),
-            "model_evaluations": int(result.nfev), "failed_evaluations": failed_evaluations,
+            "model_evaluations": prob.driver.model_evaluations if prob else int(result.nfev), "failed_evaluations": failed_evaluations,
             "start_FPR": x}
     return prob, fpr, info
 

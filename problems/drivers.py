@@ -1,66 +1,283 @@
 """Optimizer drivers: SciPy SLSQP that backs off from failed evaluations, and pyoptsparse when it imports."""
 
+import time
+
 import numpy as np
 import openmdao.api as om
+from openmdao.core.driver import Driver
+from scipy.optimize import minimize
 
 #: Added to the (scaled) objective at a design the model cannot evaluate, so the line search backs off.
 FAILED_EVALUATION_PENALTY = 1.0e3
 
 
-class BackOffSLSQPDriver(om.ScipyOptimizeDriver):
-    """SciPy SLSQP that treats an ``om.AnalysisError`` as a failed evaluation instead of aborting.
+class BackOffSLSQPDriver(Driver):
+    """SciPy's SLSQP as an OpenMDAO driver that treats ``om.AnalysisError`` as a failed evaluation.
 
-    The model raises ``om.AnalysisError`` (``bypassopt.components.validation.InputRangeError``) for cycles that
-    cannot exist (a core jet with no pressure left, a turbine asked for more work than the gas holds).
-    pyoptsparse optimizers back off from such points natively. SciPy's SLSQP has no failure flag, so
-    this driver returns the last good objective plus ``FAILED_EVALUATION_PENALTY`` (in scaled units)
-    with the last good constraint values: the merit function rises and SLSQP's line search shortens
-    its step. Failed evaluations are counted in ``failed_evaluations``; any other exception aborts the
-    run as usual. A failed evaluation is recorded with ``success = 0`` and the error as its message, so
-    a ``om.CaseReader`` (and the convergence plot) can leave it out.
+    The model raises ``om.AnalysisError`` (``bypassopt.components.validation.InputRangeError``) for
+    cycles that cannot exist (a core jet with no pressure left, a turbine asked for more work than the
+    gas holds). pyOptSparse optimizers back off from such points natively, through their failure flag.
+    SciPy's SLSQP has none, and OpenMDAO's ``ScipyOptimizeDriver`` stops the run at the first such error.
+    This driver calls ``scipy.optimize.minimize(method='SLSQP')`` itself with its own callbacks, built on
+    the public driver and problem API only (``Driver.run``, ``get_design_var_values``,
+    ``get_objective_values``, ``get_constraint_values``, ``record_iteration``, ``Problem.set_val`` and
+    ``Problem.compute_totals``; no private method of another driver is overridden). At a failed
+    evaluation it returns the last good objective plus ``FAILED_EVALUATION_PENALTY`` (in scaled units)
+    with the last good constraint values, so the merit function rises and SLSQP's line search shortens
+    its step. Failed evaluations are not recorded as cases; they are listed in ``failures`` (design and
+    message). Any other exception aborts the run as usual. At the end the model is left evaluated at the
+    point SLSQP returned (not at its last trial point), so what a caller reads is the optimum.
+
+    Design variables and responses are handed to SLSQP in OpenMDAO's driver scaling (``ref``/``ref0``).
+
+    Attributes
+    ----------
+    optimizer_result : scipy.optimize.OptimizeResult or None
+        What ``minimize`` returned in the last run (``success``, ``message``, ``nit``, ``x``).
+    model_evaluations, derivative_evaluations : int
+        Model solves and total-derivative computations of the last run (failed ones included).
+    model_time_s, derivative_time_s : float
+        Wall time of the last run spent in model solves and in total derivatives.
+    failures : list of dict
+        ``{"design": {name: value}, "message": str}`` of each failed evaluation of the last run.
     """
 
     def __init__(self, **kwargs):
-        """Create the driver with SLSQP selected."""
-        kwargs.setdefault("optimizer", "SLSQP")
+        """Create the driver; keyword arguments set options."""
         super().__init__(**kwargs)
-        self.failed_evaluations = 0
-        self._last_good = None
-        self._failure = None
+        self.supports["optimization"] = True
+        self.supports["inequality_constraints"] = True
+        self.supports["equality_constraints"] = True
+        self.supports["two_sided_constraints"] = True
+        self.supports["linear_constraints"] = True
+        self.supports["multiple_objectives"] = False
+        self.optimizer_result = None
+        self.model_evaluations = 0
+        self.derivative_evaluations = 0
+        self.failures = []
+        self._iterations = 0
+        self.model_time_s = self.derivative_time_s = 0.0
 
-    def _setup_driver(self, problem):
-        super()._setup_driver(problem)
-        self.failed_evaluations = 0
-        self._last_good = None
+    def _declare_options(self):
+        self.options.declare("optimizer", default="SLSQP", values=("SLSQP",), desc="SciPy optimizer used")
+        self.options.declare("maxiter", types=int, default=100, lower=1, desc="largest number of iterations")
+        self.options.declare("tol", types=float, default=1e-8, lower=0.0, desc="SLSQP convergence tolerance")
+        self.options.declare("disp", types=bool, default=False, desc="let SciPy print its summary")
+        self.options.declare("callback", default=None, allow_none=True, recordable=False,
+                             desc="called after each model evaluation as callback(evaluation, objective, ok, "
+                                  "iteration) with the objective in its declared units (None where it failed)")
 
-    def _run_solve_nonlinear(self):
+    def _get_name(self):
+        return "BackOffSLSQP"
+
+    @property
+    def failed_evaluations(self):
+        """Number of evaluations of the last run that raised ``om.AnalysisError``."""
+        return len(self.failures)
+
+    # -- helpers on the public API --------------------------------------------------------------------
+
+    @staticmethod
+    def _scaling(meta):
+        """(scaler, adder) of a design variable or response in its declared units: scaled = (v + adder) * scaler.
+
+        From ``scaler``/``adder`` or ``ref``/``ref0`` as given to ``add_design_var``/``add_constraint``/
+        ``add_objective`` (OpenMDAO's definition: ref0 maps to 0 and ref to 1).
+        """
+        if meta.get("ref") is not None or meta.get("ref0") is not None:
+            ref0 = 0.0 if meta.get("ref0") is None else meta["ref0"]
+            ref = 1.0 if meta.get("ref") is None else meta["ref"]
+            return 1.0 / (ref - ref0), -ref0
+        scaler = 1.0 if meta.get("scaler") is None else meta["scaler"]
+        adder = 0.0 if meta.get("adder") is None else meta["adder"]
+        return scaler, adder
+
+    def _scaled(self, meta, value):
+        scaler, adder = self._scaling(meta)
+        return (np.ravel(value) + adder) * scaler
+
+    def _get(self, name, meta):
+        return np.ravel(self._problem().get_val(name, units=meta.get("units"))).astype(float)
+
+    def _set_x(self, x):
+        """Set the design variables from a scaled vector."""
+        prob = self._problem()
+        i = 0
+        for name in self._dv_names:
+            meta = self._dv_meta[name]
+            size = int(meta["size"])
+            scaler, adder = self._scaling(meta)
+            prob.set_val(name, np.asarray(x[i:i + size], dtype=float) / scaler - adder, units=meta.get("units"))
+            i += size
+
+    def _evaluate(self, x):
+        """Run the model at scaled x; cache objective and constraints, or record the failure."""
+        key = np.asarray(x, dtype=float).tobytes()
+        if self._cache_key == key:
+            return self._cache
+        self._set_x(x)
+        prob = self._problem()
+        self.model_evaluations += 1
+        self.iter_count += 1
+        t0 = time.perf_counter()
         try:
-            return super()._run_solve_nonlinear()
+            try:
+                prob.model.run_solve_nonlinear()
+            finally:
+                self.model_time_s += time.perf_counter() - t0
         except om.AnalysisError as err:
-            self._failure = str(err).splitlines()[-1][:500]
-            raise
+            design = {name: self._get(name, self._dv_meta[name]).tolist() for name in self._dv_names}
+            self.failures.append({"design": design, "message": str(err).strip().splitlines()[-1][:500]})
+            if self._last_good is None:  # the start itself cannot be evaluated: nothing to back off to
+                raise
+            f_good, g_good, _ = self._last_good
+            self._cache_key, self._cache = key, (f_good + FAILED_EVALUATION_PENALTY, g_good, False)
+            self._notify(None, False)
+            return self._cache
+        self.record_iteration()
+        f = float(self._scaled(self._obj_meta, self._get(self._obj_name, self._obj_meta))[0])
+        g = np.concatenate([self._con_margins(n) for n in self._con_names] or [np.zeros(0)])
+        self._cache_key, self._cache = key, (f, g, True)
+        self._last_good = (f, g, np.array(x, dtype=float))
+        self._notify(float(self._get(self._obj_name, self._obj_meta)[0]), True)
+        return self._cache
 
-    def _get_recorder_metadata(self, case_name):
-        meta = super()._get_recorder_metadata(case_name)
-        if self._failure is not None:
-            meta["success"] = 0
-            meta["msg"] = self._failure
-        return meta
+    def _notify(self, objective, ok):
+        if self.options["callback"] is not None:
+            self.options["callback"](self.model_evaluations, objective, ok, self._iterations)
 
-    def _objfunc(self, x_new):
-        self._failure = None
-        f_new = super()._objfunc(x_new)
-        if self._exc_info is not None and issubclass(self._exc_info[0], om.AnalysisError):
-            if self._last_good is None:  # the starting point itself fails: nothing to back off to
-                return f_new
-            self._exc_info = None
-            self.failed_evaluations += 1
-            f_good, cons_good = self._last_good
-            self._con_cache = {k: np.copy(v) for k, v in cons_good.items()}
-            return f_good + FAILED_EVALUATION_PENALTY
-        if self._exc_info is None:
-            self._last_good = (f_new, {k: np.copy(v) for k, v in self._con_cache.items()})
-        return f_new
+    def _con_sides(self, name):
+        """[(sign, scaled bound)] of one constraint: SLSQP's g = sign * (scaled value - scaled bound)."""
+        meta = self._con_meta[name]
+        if meta.get("equals") is not None:
+            return [(1.0, self._scaled(meta, meta["equals"]))]
+        sides = []
+        if meta.get("lower") is not None and np.all(np.asarray(meta["lower"]) > -1e29):
+            sides.append((1.0, self._scaled(meta, meta["lower"])))
+        if meta.get("upper") is not None and np.all(np.asarray(meta["upper"]) < 1e29):
+            sides.append((-1.0, self._scaled(meta, meta["upper"])))
+        return sides
+
+    def _con_margins(self, name):
+        value = self._scaled(self._con_meta[name], self._get(name, self._con_meta[name]))
+        return np.concatenate([sign * (value - bound) for sign, bound in self._con_sides(name)] or [np.zeros(0)])
+
+    def _gradients(self, x):
+        """Objective gradient and constraint Jacobian (SLSQP form) at scaled x, from the analytic totals."""
+        key = np.asarray(x, dtype=float).tobytes()
+        if self._grad_key == key:
+            return self._grad
+        _, _, ok = self._evaluate(x)
+        if not ok:  # asked at a failed point: the last good point's derivatives keep SLSQP going
+            self._evaluate(self._last_good[2])
+            return self._gradients(self._last_good[2])
+        prob = self._problem()
+        self.derivative_evaluations += 1
+        of = [self._obj_name] + self._con_names
+        # in the units given to add_design_var/add_constraint/add_objective; scaled here
+        t0 = time.perf_counter()
+        totals = prob.compute_totals(of=of, wrt=self._dv_names, driver_scaling=False, return_format="flat_dict")
+        self.derivative_time_s += time.perf_counter() - t0
+        x_scalers = [self._scaling(self._dv_meta[w])[0] for w in self._dv_names]
+
+        def row(of_name, meta):
+            f_scaler = self._scaling(meta)[0]
+            return np.hstack([np.atleast_2d(totals[of_name, w]) * f_scaler / xs
+                              for w, xs in zip(self._dv_names, x_scalers)])
+
+        grad_f = np.ravel(row(self._obj_name, self._obj_meta))
+        blocks = []
+        for name in self._con_names:
+            jac = row(name, self._con_meta[name])
+            blocks.extend(sign * jac for sign, _ in self._con_sides(name))
+        jac_g = np.vstack(blocks) if blocks else np.zeros((0, grad_f.size))
+        self._grad_key, self._grad = key, (grad_f, jac_g)
+        return self._grad
+
+    @property
+    def iterations(self):
+        """Completed SLSQP iterations so far (the count ``optimizer_result.nit`` reports at the end)."""
+        return self._iterations
+
+    def _bound(self, name, which):
+        """Scaled lower or upper bound of a design variable (None or |bound| >= 1e29: unbounded)."""
+        meta = self._dv_meta[name]
+        value = meta.get(which)
+        size = int(meta["size"])
+        if value is None or np.max(np.abs(value)) >= 1e29:
+            return np.full(size, -np.inf if which == "lower" else np.inf)
+        return np.broadcast_to(self._scaled(meta, value), (size,))
+
+    # -- the run --------------------------------------------------------------------------------------
+
+    def run(self):
+        """Optimise with SLSQP; return True when it failed (OpenMDAO's driver convention)."""
+        start = time.perf_counter()
+        model = self._problem().model
+        self._dv_meta = model.get_design_vars(recurse=True, get_sizes=True, use_prom_ivc=True)
+        self._dv_names = list(self._dv_meta)
+        self._con_meta = model.get_constraints(recurse=True, get_sizes=True, use_prom_ivc=True)
+        self._con_names = list(self._con_meta)
+        objectives = model.get_objectives(recurse=True, get_sizes=True, use_prom_ivc=True)
+        self._obj_name, self._obj_meta = next(iter(objectives.items()))
+        self.optimizer_result = None
+        self.model_evaluations = self.derivative_evaluations = 0
+        self.model_time_s = self.derivative_time_s = 0.0
+        self.failures = []
+        self._cache_key = self._grad_key = None
+        self._last_good = None
+        self._iterations = 0
+
+        def count_iteration(_x):
+            self._iterations += 1
+
+        x0 = np.concatenate([self._scaled(self._dv_meta[n], self._get(n, self._dv_meta[n])) for n in self._dv_names])
+
+        lower = np.concatenate([self._bound(n, "lower") for n in self._dv_names])
+        upper = np.concatenate([self._bound(n, "upper") for n in self._dv_names])
+        x0 = np.clip(x0, lower, upper)
+        eq = [n for n in self._con_names if self._con_meta[n].get("equals") is not None]
+        constraints = []
+        ineq_names = [n for n in self._con_names if n not in eq]
+        if self._con_names:
+            # rows of g in _con_names order; split equality rows from inequality rows
+            rows_of = {}
+            k = 0
+            for n in self._con_names:
+                width = int(self._con_meta[n]["size"]) * len(self._con_sides(n))
+                rows_of[n] = np.arange(k, k + width)
+                k += width
+            eq_rows = np.concatenate([rows_of[n] for n in eq]) if eq else np.zeros(0, int)
+            in_rows = np.concatenate([rows_of[n] for n in ineq_names]) if ineq_names else np.zeros(0, int)
+            if eq_rows.size:
+                constraints.append({"type": "eq", "fun": lambda x: self._evaluate(x)[1][eq_rows],
+                                    "jac": lambda x: self._gradients(x)[1][eq_rows]})
+            if in_rows.size:
+                constraints.append({"type": "ineq", "fun": lambda x: self._evaluate(x)[1][in_rows],
+                                    "jac": lambda x: self._gradients(x)[1][in_rows]})
+
+        result = minimize(lambda x: self._evaluate(x)[0], x0, jac=lambda x: self._gradients(x)[0],
+                          method="SLSQP", bounds=list(zip(lower, upper)), constraints=constraints,
+                          tol=self.options["tol"], callback=count_iteration,
+                          options={"maxiter": self.options["maxiter"], "disp": self.options["disp"]})
+        self.optimizer_result = result
+        # leave the model at the returned point (SLSQP's last trial may have been a line-search step)
+        final = result.x if result.x is not None else self._last_good[2]
+        try:
+            self._cache_key = None
+            _, _, ok = self._evaluate(final)
+        except om.AnalysisError:
+            ok = False
+        if not ok and self._last_good is not None:
+            self._cache_key = None
+            self._evaluate(self._last_good[2])
+        if hasattr(self, "result"):  # OpenMDAO >= 3.27 reports counts in a DriverResult
+            self.result.iter_count = int(result.nit)
+            self.result.model_evals = self.model_evaluations
+            self.result.deriv_evals = self.derivative_evaluations
+            self.result.exit_status = "SUCCESS" if result.success else "FAIL"
+            self.result.runtime = time.perf_counter() - start
+        return not bool(result.success)
 
 
 def pyoptsparse_available():

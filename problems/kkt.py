@@ -2,15 +2,16 @@
 
 import numpy as np
 
-from .best_cycle import constraint_limits
 
 #: A constraint (or design-variable bound) counts as active when within this fraction of its scaling
 #: reference of its limit.
 ACTIVE_TOL = 1e-4
 
 
-def kkt_analysis(prob, active_tol=ACTIVE_TOL):
+def kkt_analysis(prob, settings, active_tol=ACTIVE_TOL):
     """Lagrange multipliers, shadow prices and KKT residuals at the current point of a best-cycle problem.
+
+    ``prob`` and ``settings`` are what ``build_best_cycle_problem`` returned.
 
     Every limit is written as c_i(x) <= 0 (an upper limit U on g: c = g - U; a lower limit L: c = L - g;
     design-variable bounds likewise). At a local optimum of f the KKT conditions are
@@ -33,12 +34,12 @@ def kkt_analysis(prob, active_tol=ACTIVE_TOL):
         to |f|) and ``complementarity`` (largest
         |lambda_i c_i| relative to |f|).
     """
-    objective = prob.bypassopt_objective
     from .best_cycle import OBJECTIVES
 
+    objective = settings.objective
     obj_name, obj_units, _ = OBJECTIVES[objective]
-    limits = constraint_limits(prob)
-    dvs = prob.bypassopt_design_vars
+    limits = settings.limits
+    dvs = settings.design_vars
     dv_names = list(dvs)
     dv_units = {n: ("K" if n == "Tt4" else None) for n in dv_names}
     of = [obj_name] + list(limits)

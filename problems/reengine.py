@@ -6,7 +6,7 @@ import textwrap
 import openmdao.api as om
 
 from bypassopt import CAUTION
-from bypassopt.report import design_summary, format_number, optimum_summary, settle_at_optimum, text_table
+from bypassopt.report import design_summary, format_number, optimum_summary, text_table
 from bypassopt.scenario import ScenarioError, load_scenario
 
 from .best_cycle import build_best_cycle_problem, build_evaluation_problem
@@ -63,8 +63,7 @@ def evaluate_previous_engine(scenario):
     prev_scenario = previous_engine_scenario(scenario)
     prev = scenario["previous_engine"]
     design = {"BPR": prev["BPR"], "FPR": prev["FPR"], "OPR": prev["OPR"], "Tt4": prev["Tt4_K"]}
-    prob = build_evaluation_problem(prev_scenario, design=design)
-    prob.bypassopt_scenario = scenario
+    prob = build_evaluation_problem(prev_scenario, design=design, reports=False)
     try:
         prob.run_model()
     except om.AnalysisError as err:
@@ -100,14 +99,13 @@ def compare_reengining(scenario=None, objective=None, driver=None, before_run=No
     """
     scenario = scenario or load_scenario()
     prev_prob = evaluate_previous_engine(scenario)
-    previous = design_summary(prev_prob)
+    previous = design_summary(prev_prob, scenario=scenario)
 
-    prob = build_best_cycle_problem(scenario, objective=objective, driver=driver)
+    prob, settings = build_best_cycle_problem(scenario, objective=objective, driver=driver, reports=False)
     if before_run is not None:
         before_run(prob)
     result = prob.run_driver()
-    settle_at_optimum(prob)
-    new = optimum_summary(prob, result)
+    new = optimum_summary(prob, settings, result)
 
     rows = []
     for name, units, desc in COMPARED:

@@ -3,7 +3,9 @@
 import numpy as np
 from openmdao.utils.units import unit_conversion
 
-from bypassopt.problems.best_cycle import OBJECTIVES, build_best_cycle_problem, constraint_limits
+from dataclasses import replace
+
+from bypassopt.problems.best_cycle import OBJECTIVES, build_best_cycle_problem
 from bypassopt.problems.kkt import kkt_analysis
 from bypassopt.scenario import SCHEMA, ScenarioError, load_scenario, validate
 
@@ -46,29 +48,7 @@ def _factor(from_units, to_units):
     return unit_conversion(from_units, to_units)[0]
 
 
-def settle_at_result(prob):
-    """Leave a problem run by a SciPy driver evaluated at the optimizer's returned point.
-
-    ``ScipyOptimizeDriver`` leaves the model at its last evaluation; after a line-search back-off that
-    can differ from the returned optimum, so the returned design is set and the model re-run if needed.
-    """
-    result = getattr(prob.driver, "_scipy_optimize_result", None)
-    if result is None:
-        return
-    x = np.asarray(result.x, dtype=float)
-    i, changed = 0, False
-    for name, current in prob.driver.get_design_var_values().items():
-        size = np.size(current)
-        new = x[i:i + size]
-        i += size
-        if not np.allclose(np.ravel(current), new, rtol=0.0, atol=1e-14):
-            prob.driver.set_design_var(name, new)
-            changed = True
-    if changed:
-        prob.run_model()
-
-
-def limit_sensitivity(prob, kkt, limit):
+def limit_sensitivity(prob, settings, kkt, limit):
     """d(optimum objective)/d(limit), objective units per limit unit, from the multipliers at an optimum.
 
     By the envelope theorem (Nocedal and Wright, *Numerical Optimization*, 2nd ed., section 12.8), the
@@ -78,10 +58,10 @@ def limit_sensitivity(prob, kkt, limit):
     bound U (T41, T3) gives d f*/dU = -lambda.
     """
     section, var, units, _, _, _, constraint = TRADE_LIMITS[limit]
-    obj_name, obj_units, _ = OBJECTIVES[prob.bypassopt_objective]
+    obj_name, obj_units, _ = OBJECTIVES[settings.objective]
     if var is None:
         return float(kkt["constraints"][constraint]["shadow_price"])
-    limits = constraint_limits(prob)
+    limits = settings.limits
     of = [obj_name] + list(limits)
     totals = prob.compute_totals(of=of, wrt=[var], return_format="flat_dict", driver_scaling=False)
     wrt_factor = 1.0 / _factor(_model_units(prob, var), units)
@@ -98,7 +78,7 @@ def limit_sensitivity(prob, kkt, limit):
     return sens
 
 
-def active_set_degenerate(prob, kkt, rtol=1e-6):
+def active_set_degenerate(prob, settings, kkt, rtol=1e-6):
     """Return True when the gradients of the active constraints and bounds are linearly dependent.
 
     Then the multipliers, and so the split of a shadow price between coinciding limits, are not unique
@@ -106,7 +86,7 @@ def active_set_degenerate(prob, kkt, rtol=1e-6):
     different one-sided slopes with respect to either limit.
     """
     active = [n for n, c in kkt["constraints"].items() if c["active"]]
-    dvs = list(prob.bypassopt_design_vars)
+    dvs = list(settings.design_vars)
     rows = []
     if active:
         totals = prob.compute_totals(of=active, wrt=dvs, return_format="flat_dict", driver_scaling=False)
@@ -143,7 +123,7 @@ def _scenario_at(scenario, limit, value):
     return validate({section: {limit: float(value)}}, base=scenario)
 
 
-def run_trade_curve(scenario=None, limit=None, values=None, progress=None):
+def run_trade_curve(scenario=None, limit=None, values=None, progress=None, reports=False):
     """Best installed cycle along a sweep of one limit, warm-started, with shadow prices at every optimum.
 
     Each point re-solves ``build_best_cycle_problem`` starting from the previous optimum's design
@@ -194,23 +174,22 @@ def run_trade_curve(scenario=None, limit=None, values=None, progress=None):
     prob, previous, points = None, None, []
     for k, (value, sc) in enumerate(zip(values, scenarios)):
         if prob is None or var is None:
-            prob = build_best_cycle_problem(sc)
+            prob, settings = build_best_cycle_problem(sc, reports=reports)
         else:
             prob.set_val(var, value, units=units)
-            prob.bypassopt_scenario = sc
+            settings = replace(settings, scenario=sc)
         if previous is not None:
             for name, val in previous.items():
                 prob.set_val(name, val, units="K" if name == "Tt4" else None)
         success = bool(prob.run_driver().success)
-        settle_at_result(prob)
-        result = prob.driver._scipy_optimize_result
-        kkt = kkt_analysis(prob)
-        sens = limit_sensitivity(prob, kkt, limit) if success else float("nan")
-        degenerate = active_set_degenerate(prob, kkt)
+        result = prob.driver.optimizer_result
+        kkt = kkt_analysis(prob, settings)
+        sens = limit_sensitivity(prob, settings, kkt, limit) if success else float("nan")
+        degenerate = active_set_degenerate(prob, settings, kkt)
         design = {name: float(np.squeeze(prob.get_val(name, units="K" if name == "Tt4" else None)))
                   for name in ("BPR", "FPR", "OPR", "Tt4")}
         if success:
-            previous = {name: design[name] for name in prob.bypassopt_design_vars}
+            previous = {name: design[name] for name in settings.design_vars}
         active_cons = [n for n, c in kkt["constraints"].items() if c["active"]]
         active_bounds = [f"{n} ({b['active']} bound)" for n, b in kkt["bounds"].items() if b["active"]]
         points.append({

@@ -1,6 +1,12 @@
 """Shared test set-up."""
 
+import os
+
 import pytest
+
+# The problem builders leave OpenMDAO's reports at OpenMDAO's default (on) for API users; the suite
+# turns them off to save time (tests/problems/test_builders.py checks that reports=True still writes them).
+os.environ.setdefault("OPENMDAO_REPORTS", "0")
 
 
 @pytest.fixture(autouse=True)

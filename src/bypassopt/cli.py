@@ -119,49 +119,6 @@ class Progress:
         self._line = ""
 
 
-def _iteration_recorder(progress, objective):
-    """Return an OpenMDAO case recorder that only reports each driver iteration to ``progress``."""
-    import numpy as np
-    from openmdao.recorders.case_recorder import CaseRecorder
-
-    class IterationProgressRecorder(CaseRecorder):
-        """Reports driver iterations to a progress display; records nothing."""
-
-        def __init__(self):
-            super().__init__(record_viewer_data=False)
-            self.count = 0
-
-        def record_iteration_driver(self, recording_requester, data, metadata):
-            self.count += 1
-            outputs = data.get("output") or {}
-            value = next((v for k, v in outputs.items() if k == objective or k.endswith("." + objective)), None)
-            text = "" if value is None else f", {objective} {float(np.real(np.ravel(value)[0])):.6g}"
-            progress(None, None, f"model evaluation {self.count}{text}")
-
-        def record_metadata_system(self, system, run_number=None):
-            pass
-
-        def record_metadata_solver(self, solver, run_number=None):
-            pass
-
-        def record_iteration_system(self, recording_requester, data, metadata):
-            pass
-
-        def record_iteration_solver(self, recording_requester, data, metadata):
-            pass
-
-        def record_iteration_problem(self, recording_requester, data, metadata):
-            pass
-
-        def record_derivatives_driver(self, recording_requester, data, metadata):
-            pass
-
-        def record_viewer_data(self, model_viewer_data):
-            pass
-
-    return IterationProgressRecorder()
-
-
 # ---------------------------------------------------------------------------------------------------------
 # Arguments
 
@@ -350,8 +307,7 @@ def _precheck_design(scenario, design=None, what="the scenario's initial design"
 
     from bypassopt.problems.best_cycle import build_evaluation_problem
 
-    prob = build_evaluation_problem(scenario, design=design)
-    prob.bypassopt_scenario = scenario
+    prob = build_evaluation_problem(scenario, design=design, reports=False)
     try:
         prob.run_model()
     except om.AnalysisError as err:
@@ -499,7 +455,7 @@ def _write_summary_files(run, summary, stem):
 def cmd_optimize(run, scenario):
     """Best installed cycle with reports and plots."""
     from bypassopt.problems.best_cycle import OBJECTIVES, build_best_cycle_problem
-    from bypassopt.report import optimum_summary, settle_at_optimum
+    from bypassopt.report import driver_succeeded, optimum_summary
 
     args = run.args
     _check_driver(args.driver or scenario["optimizer"]["driver"])
@@ -517,20 +473,25 @@ def cmd_optimize(run, scenario):
     history = run.out_path("history.sqlite")
     progress = run.progress("optimize")
     with run.quiet_stdout():
-        prob = build_best_cycle_problem(scenario, objective=objective, driver=args.driver, recorder_path=history)
-        prob.driver.add_recorder(_iteration_recorder(progress, OBJECTIVES[objective][0]))
+        prob, settings = build_best_cycle_problem(scenario, objective=objective, driver=args.driver,
+                                                  recorder_path=history, reports=False)
+        obj_name, obj_units, _ = OBJECTIVES[objective]
+        if "callback" in prob.driver.options:
+            def step(evaluation, value, ok, iteration):
+                text = f"{obj_name} {value:.6g} {obj_units}" if ok else "evaluation failed, backing off"
+                progress(None, None, f"iteration {iteration}, evaluation {evaluation}: {text}")
+            prob.driver.options["callback"] = step
         result = prob.run_driver()
-        if settle_at_optimum(prob):  # the last evaluation was not the returned point: record the optimum
-            prob.driver.record_iteration()
-        summary = optimum_summary(prob, result)
+        success = driver_succeeded(result)
+        summary = optimum_summary(prob, settings, result)
         prob.cleanup()
-    progress.finish("converged" if result.success else "stopped without converging")
+    progress.finish("converged" if success else "stopped without converging")
     run.wrote(history)
     _write_summary_files(run, summary, "optimum")
     if plots:
         with run.quiet_stdout():
             _write_png(run, "convergence.png", plot_convergence, history)
-    if not result.success:
+    if not success:
         raise NotConverged(f"the optimizer did not converge ({summary['optimizer']['message'] or 'no message'})",
                            summary)
     if plots:
@@ -690,7 +651,7 @@ def check_derivatives(scenario, tolerance=DERIVATIVE_TOLERANCE):
 
     from bypassopt.problems.best_cycle import build_best_cycle_problem
 
-    prob = build_best_cycle_problem(scenario)
+    prob, _ = build_best_cycle_problem(scenario, reports=False, force_alloc_complex=True)
     prob.run_model()
     totals = prob.check_totals(method="cs", out_stream=None, driver_scaling=True)
     scale = {}

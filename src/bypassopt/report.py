@@ -113,7 +113,7 @@ def _has(prob, name):
     return True
 
 
-def design_summary(prob, node=0):
+def design_summary(prob, node=0, scenario=None):
     """Key quantities and the station table of the current point of an installed-engine problem.
 
     Parameters
@@ -130,7 +130,6 @@ def design_summary(prob, node=0):
         ``caution``, ``tool``, ``scenario`` (name or None), ``quantities`` {name: {value, units,
         description, group}} and ``stations`` (rows of ``station_table``).
     """
-    scenario = getattr(prob, "bypassopt_scenario", None)
     quantities = {}
     for name, units, desc, group in QUANTITIES:
         if _has(prob, name):
@@ -204,37 +203,8 @@ def station_table(prob, node=0):
     return rows
 
 
-def settle_at_optimum(prob):
-    """Leave a problem run by SciPy's optimizer evaluated at the point the optimizer returned.
-
-    ``ScipyOptimizeDriver`` leaves the model at its last evaluation, which after a line-search back-off
-    (or a failed evaluation) is not the returned point. Sets the returned design variables and re-runs
-    the model when they differ. Returns True when it re-ran (the caller may then record the case).
-    """
-    result = getattr(prob.driver, "_scipy_optimize_result", None)
-    if result is None or getattr(result, "x", None) is None:
-        return False
-    x = np.asarray(result.x, dtype=float).ravel()
-    updates, i = {}, 0
-    for name, meta in prob.model.get_design_vars(recurse=True, use_prom_ivc=True).items():
-        size = int(meta["size"])
-        scaler = meta.get("total_scaler")
-        adder = meta.get("total_adder")
-        value = x[i:i + size] / (1.0 if scaler is None else scaler) - (0.0 if adder is None else adder)
-        i += size
-        current = np.ravel(prob.get_val(name, units=meta["units"]))
-        if not np.allclose(current, value, rtol=1e-15, atol=0.0):
-            updates[name] = (value, meta["units"])
-    if not updates:
-        return False
-    for name, (value, units) in updates.items():
-        prob.set_val(name, value, units=units)
-    prob.run_model()
-    return True
-
-
 def _driver_message(driver):
-    res = getattr(driver, "_scipy_optimize_result", None)
+    res = getattr(driver, "optimizer_result", None)
     if res is not None and getattr(res, "message", None) is not None:
         return str(res.message)
     sol = getattr(driver, "pyopt_solution", None)
@@ -262,14 +232,23 @@ def _saving_words(saving, objective, obj_units):
     return f"would {verb} {format_number(abs(saving), 3)} {obj_units} {what}"
 
 
-def optimum_summary(prob, driver_result):
+def driver_succeeded(driver_result):
+    """True when a driver run succeeded: OpenMDAO >= 3.27 returns a DriverResult, older ones a failure flag."""
+    if isinstance(driver_result, (bool, np.bool_)):
+        return not bool(driver_result)
+    return bool(driver_result.success)
+
+
+def optimum_summary(prob, settings, driver_result):
     """``design_summary`` plus the optimizer's record, constraints with shadow prices and KKT residuals.
 
     Parameters
     ----------
     prob : om.Problem
         A best-cycle problem (``build_best_cycle_problem``) after ``run_driver``.
-    driver_result : openmdao DriverResult
+    settings : bypassopt.problems.best_cycle.BestCycleSettings
+        What ``build_best_cycle_problem`` returned beside the problem.
+    driver_result : openmdao DriverResult or bool
         What ``prob.run_driver()`` returned.
 
     Returns
@@ -282,20 +261,22 @@ def optimum_summary(prob, driver_result):
     """
     from bypassopt.problems.kkt import kkt_analysis
 
-    summary = design_summary(prob)
+    summary = design_summary(prob, scenario=settings.scenario)
     driver = prob.driver
+    own = getattr(driver, "optimizer_result", None)  # BackOffSLSQPDriver keeps its own counts
     summary["optimizer"] = {
         "driver": _driver_name(driver),
-        "success": bool(driver_result.success),
+        "success": driver_succeeded(driver_result),
         "exit_status": str(getattr(driver_result, "exit_status", "")),
         "message": _driver_message(driver),
-        "iterations": int(driver_result.iter_count),
-        "model_evaluations": int(driver_result.model_evals),
-        "derivative_evaluations": int(driver_result.deriv_evals),
+        "iterations": int(own.nit if own is not None else getattr(driver_result, "iter_count", driver.iter_count)),
+        "model_evaluations": int(getattr(driver, "model_evaluations", getattr(driver_result, "model_evals", 0))),
+        "derivative_evaluations": int(getattr(driver, "derivative_evaluations",
+                                              getattr(driver_result, "deriv_evals", 0))),
         "failed_evaluations": int(getattr(driver, "failed_evaluations", 0)),
         "runtime_s": float(getattr(driver_result, "runtime", 0.0)),
     }
-    kkt = kkt_analysis(prob)
+    kkt = kkt_analysis(prob, settings)
     objective = kkt["objective"]["name"]
     obj_units = kkt["objective"]["units"]
     summary["objective"] = kkt["objective"]

@@ -30,10 +30,10 @@ def evaluated():
 @pytest.fixture(scope="module")
 def optimised():
     """The demo's best installed cycle and the driver's result."""
-    prob = build_best_cycle_problem()
+    prob, settings = build_best_cycle_problem()
     result = prob.run_driver()
     assert result.success
-    return prob, result
+    return prob, settings, result
 
 
 def _stations(prob):
@@ -121,12 +121,12 @@ def test_summary_text_has_caution_and_tables(evaluated):
 
 def test_optimum_summary(optimised, tmp_path):
     """Optimizer record, constraints with margins and shadow prices, and a plain sentence per active limit."""
-    prob, result = optimised
-    s = optimum_summary(prob, result)
+    prob, settings, result = optimised
+    s = optimum_summary(prob, settings, result)
     assert s["caution"] == CAUTION
     opt = s["optimizer"]
-    assert opt["success"] and opt["iterations"] == result.iter_count
-    assert opt["model_evaluations"] == result.model_evals and opt["failed_evaluations"] >= 0
+    assert opt["success"] and opt["iterations"] == prob.driver.optimizer_result.nit
+    assert opt["model_evaluations"] == prob.driver.model_evaluations and opt["failed_evaluations"] >= 0
     assert "success" in opt["message"].lower()
     assert s["objective"]["name"] == "mission_fuel"
     assert s["objective"]["value"] == s["quantities"]["mission_fuel"]["value"]
@@ -161,9 +161,9 @@ def test_shadow_price_units_installed_tsfc():
     At this optimum only the clearance limit and the OPR upper bound are active, so the BPR row of the
     KKT conditions alone gives the multiplier: dF/dBPR - lambda d(clearance margin)/dBPR = 0.
     """
-    prob = build_best_cycle_problem(objective="installed_TSFC")
+    prob, settings = build_best_cycle_problem(objective="installed_TSFC")
     result = prob.run_driver()
-    s = optimum_summary(prob, result)
+    s = optimum_summary(prob, settings, result)
     assert s["constraints"]["clearance_margin"]["active"] and s["bounds"]["OPR"]["active"] == "upper"
     df = prob.compute_totals(of=["installed_TSFC"], wrt=["BPR"], return_format="flat_dict")
     dc = prob.compute_totals(of=["clearance_margin"], wrt=["BPR"], return_format="flat_dict")

@@ -36,7 +36,7 @@ WING_RANGES = {"takeoff_mass": (60e3, 90e3), "wing_loading": (450.0, 750.0),
 @pytest.fixture(scope="module")
 def sized():
     """The demo aircraft sized at the scenario's starting design (analysis only)."""
-    prob = build_embedding_problem(optimize=False)
+    prob = build_embedding_problem(optimize=False, force_alloc_complex=True)
     prob.run_model()
     return prob
 
@@ -123,7 +123,7 @@ def test_totals_match_complex_step(sized):
 
 def test_optimisation_improves_mission_fuel():
     """SLSQP over BPR, FPR, OPR and wing loading lowers the mission fuel and meets the constraints."""
-    prob = build_embedding_problem(optimize=True)
+    prob = build_embedding_problem(optimize=True, force_alloc_complex=True)
     prob.run_model()
     start = prob.get_val("mission_fuel", units="kg")[0]
     result = prob.run_driver()
@@ -143,7 +143,7 @@ def test_group_options_vectorize():
     apply_scenario_to_aircraft(prob, load_scenario())
     prob.set_val("wing_loading", [600.0, 550.0])
     prob.run_model()
-    single = build_embedding_problem(optimize=False)
+    single = build_embedding_problem(optimize=False, force_alloc_complex=True)
     single.set_val("wing_loading", 550.0)
     single.run_model()
     np.testing.assert_allclose(prob.get_val("mission_fuel")[1], single.get_val("mission_fuel")[0], rtol=1e-8)

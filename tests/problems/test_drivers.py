@@ -37,11 +37,12 @@ def _wall_problem(driver):
     return prob
 
 
-def test_back_off_driver_survives_failed_evaluations_and_records_them(tmp_path):
+def test_back_off_driver_survives_failed_evaluations_and_lists_them(tmp_path):
     """Plain SciPy SLSQP aborts on the first AnalysisError; the back-off driver shortens its step instead.
 
     The minimum of (x-3)^2 over the evaluable region x <= 2.5 is at the wall; SLSQP's first step lands
-    beyond it, so the run must back off at least once, and the failed case is recorded with success = 0.
+    beyond it, so the run must back off at least once. Failed evaluations are listed on the driver (design
+    and message) and are not recorded as cases, so every recorded case is a complete evaluation.
     """
     plain = _wall_problem(om.ScipyOptimizeDriver(optimizer="SLSQP", disp=False))
     with pytest.raises(om.AnalysisError):
@@ -56,10 +57,30 @@ def test_back_off_driver_survives_failed_evaluations_and_records_them(tmp_path):
     assert prob.get_val("x")[0] <= 2.5
     assert prob.get_val("x")[0] > 2.0  # it made progress towards the wall rather than stopping at the start
     cases = om.CaseReader(str(rec)).get_cases("driver", recurse=False)
-    failed = [c for c in cases if not c.success]
-    assert len(failed) == driver.failed_evaluations
-    assert all("outside the valid range" in c.msg for c in failed)
-    assert all(np.real(c.get_design_vars()["x"][0]) > 2.5 for c in failed)
+    assert len(cases) == driver.model_evaluations - driver.failed_evaluations
+    assert all(np.real(c.get_design_vars()["x"][0]) <= 2.5 for c in cases)
+    assert all("outside the valid range" in f["message"] for f in driver.failures)
+    assert all(f["design"]["x"][0] > 2.5 for f in driver.failures)
+
+
+def test_back_off_driver_matches_scipy_on_a_constrained_problem():
+    """Where nothing fails, the driver reaches the analytic optimum of a scaled, constrained problem.
+
+    min (x-3)^2 + (y-1)^2 subject to x + y <= 2: the optimum is the projection of (3, 1) on the line,
+    (2, 0) (hand calculation); scaling by ref/ref0 must not move it.
+    """
+    prob = om.Problem(reports=False)
+    prob.model.add_subsystem("c", om.ExecComp(["f = (x - 3)**2 + (y - 1)**2", "g = x + y"]), promotes=["*"])
+    prob.model.add_design_var("x", lower=0.0, upper=10.0, ref0=0.0, ref=10.0)
+    prob.model.add_design_var("y", lower=-5.0, upper=10.0)
+    prob.model.add_objective("f", ref=3.0)
+    prob.model.add_constraint("g", upper=2.0, ref=10.0)
+    prob.driver = BackOffSLSQPDriver(maxiter=50, tol=1e-12)
+    prob.setup()
+    result = prob.run_driver()
+    assert result.success
+    np.testing.assert_allclose([prob.get_val("x")[0], prob.get_val("y")[0]], [2.0, 0.0], atol=1e-8)
+    assert prob.driver.failed_evaluations == 0
 
 
 def test_make_driver_default_is_back_off_slsqp():
