@@ -5,6 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.atmosphere.flight_condition_group import FlightConditionGroup
 from bypassopt.components.coupled_solver import COUPLED_SOLVERS, set_coupled_solvers
+from bypassopt.components.defaults import ENGINE_DEFAULTS
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 from .burner_comp import BurnerComp
@@ -126,7 +127,8 @@ class TurbofanCycleGroup(om.Group):
         else:
             self.set_input_defaults("Tt4", 1650.0 * ones, units="K")
         self.set_input_defaults("BPR", 10.0 * ones)
-        self.set_input_defaults("fuel_LHV", 43.0e6 * ones, units="J/kg")
+        lhv, lhv_units = ENGINE_DEFAULTS["fuel_LHV"]
+        self.set_input_defaults("fuel_LHV", lhv * ones, units=lhv_units)
 
         if self.options["solve_sizing"] or self.options["turbine_temperature_input"] == "Tt41":
             set_coupled_solvers(self, self.options["coupled_solver"], nn, maxiter=30)

@@ -5,6 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.coupled_solver import COUPLED_SOLVERS, set_coupled_solvers
 from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
+from bypassopt.components.defaults import INPUT_DEFAULTS
 from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
@@ -36,6 +37,10 @@ class InstalledEngineGroup(om.Group):
     ``powerplant_mass``, ``mission_fuel`` and every cycle output (``TSFC``, ``Tt41``, ``Tt3``,
     ``W3_corrected``, ...). The cruise speed of the mission is the design-point flight speed V0 and
     the cruise TSFC is the design-point installed TSFC (only the design point is modelled).
+
+    Every engine and installation input left unset takes its value from
+    ``bypassopt.components.defaults.INPUT_DEFAULTS``, the table the demo scenario's ``[engine]`` and
+    ``[installation]`` values also come from, so the bare group and ``bypassopt evaluate`` agree.
     """
 
     def initialize(self):
@@ -71,5 +76,7 @@ class InstalledEngineGroup(om.Group):
             self.add_subsystem("mission", MissionFuelComp(num_nodes=nn, num_engines=self.options["num_engines"]),
                                promotes_inputs=["*", ("cruise_speed", "V0")], promotes_outputs=["*"])
         self.set_input_defaults("Mach0", 0.78 * np.ones(nn))
+        for name, (value, units) in INPUT_DEFAULTS.items():
+            self.set_input_defaults(name, value * np.ones(nn), units=units)
 
         set_coupled_solvers(self, self.options["coupled_solver"], nn)

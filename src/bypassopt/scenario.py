@@ -1,42 +1,51 @@
 """Scenario files (TOML): schema, validation before any computation, and mapping onto model inputs.
 
 Every value is in SI units, with the unit in the key name (``altitude_m``, ``thrust_required_N``);
-dimensionless keys carry no suffix. Unknown sections or keys, wrong types and out-of-range values are
-errors that name the key, the value and the allowed range. The built-in demo scenario is
+dimensionless keys carry no suffix. The schema is a set of pydantic models, one per section (``Aircraft``,
+``DesignPoint``, ``Installation``, ...): strict types (a bool is not a number, an integer key takes no
+float; a number key takes a TOML integer), ranges, meanings and the model input each key sets. Unknown
+sections or keys, wrong types, out-of-range values and limits no design can meet are all reported in one
+``ScenarioError``, a line per error naming the key, the value, the allowed range and the key's meaning.
+
+The ``[engine]`` and ``[installation]`` keys and ``limits.max_nacelle_diameter_m`` default to the model's own
+input defaults (``bypassopt.components.defaults``). The built-in demo scenario is
 ``src/bypassopt/data/demo_twin_170.toml`` (an invented aircraft concept).
 """
 
 import copy
-import math
+import functools
 import tomllib
 from importlib import resources
+from typing import Annotated, Literal, get_args, get_origin
+
+import annotated_types
+from pydantic import AfterValidator, BaseModel, ConfigDict, Field, ValidationError, create_model, model_validator
+from pydantic.fields import FieldInfo
+
+from bypassopt.components.defaults import FUEL_HC_RATIO, INPUT_DEFAULTS
 
 #: Path of the built-in demo scenario inside the installed package.
 DEMO_SCENARIO = "demo_twin_170.toml"
 
+#: Largest scenario file read (bytes); a scenario is a few kB of TOML.
+MAX_FILE_BYTES = 1 << 20
+#: Longest text value (aircraft name), in characters.
+MAX_TEXT_LENGTH = 200
+#: Most values of a list key (carpet axes, trade-curve values).
+MAX_LIST_LENGTH = 200
+#: Deepest nesting the schema has: scenario -> section -> key -> list item or design-variable entry.
+MAX_DEPTH = 3
+
 
 class ScenarioError(ValueError):
-    """A scenario file is unreadable, has an unknown key, a wrong type or an out-of-range value."""
+    """A scenario file is unreadable, has unknown keys, wrong types, out-of-range values or infeasible limits.
 
+    The message has one line per error (a single error: one line). ``errors`` holds those lines.
+    """
 
-def _num(lo, hi, desc, var=None, lo_open=False, hi_open=False):
-    return {"type": "number", "lo": lo, "hi": hi, "desc": desc, "var": var, "lo_open": lo_open, "hi_open": hi_open}
-
-
-def _int(lo, hi, desc):
-    return {"type": "int", "lo": lo, "hi": hi, "desc": desc}
-
-
-def _str(desc, choices=None):
-    return {"type": "str", "desc": desc, "choices": choices}
-
-
-def _bool(desc):
-    return {"type": "bool", "desc": desc}
-
-
-def _list(lo, hi, desc):
-    return {"type": "list", "lo": lo, "hi": hi, "desc": desc}
+    def __init__(self, message, errors=None):
+        super().__init__(message)
+        self.errors = list(errors) if errors is not None else [str(message)]
 
 
 #: Design variables: scenario key -> model input name and physical range.
@@ -54,133 +63,6 @@ CONSTRAINT_LIMITS = {
     "min_core_size_kg_s": ("W3_corrected", "lower", "HPC exit corrected flow (core size)"),
 }
 
-SCHEMA = {
-    "aircraft": {
-        "name": _str("name of the (invented) aircraft concept"),
-        "num_engines": _int(1, 4, "number of engines"),
-        "max_takeoff_mass_kg": _num(1e3, 1e6, "maximum take-off mass", "max_takeoff_mass"),
-        "empty_mass_no_engines_kg": _num(1e3, 1e6, "operating empty mass without engines and nacelles",
-                                         "empty_mass_no_engines"),
-        "payload_kg": _num(0.0, 5e5, "design payload", "payload"),
-        "design_range_m": _num(1e5, 2e7, "design range flown in cruise", "design_range"),
-        "lift_to_drag": _num(1.0, 40.0, "cruise lift-to-drag ratio of the airframe without nacelles",
-                             "lift_to_drag"),
-        "reserve_fraction": _num(0.0, 0.3, "reserve fuel as a fraction of zero-fuel mass", "reserve_fraction"),
-        "taxi_takeoff_fraction": _num(0.9, 1.0, "mass ratio end/start of taxi and take-off",
-                                      "taxi_takeoff_fraction", lo_open=True),
-        "climb_fraction": _num(0.9, 1.0, "mass ratio end/start of climb", "climb_fraction", lo_open=True),
-        "descent_landing_fraction": _num(0.9, 1.0, "mass ratio end/start of descent and landing",
-                                         "descent_landing_fraction", lo_open=True),
-    },
-    "design_point": {
-        "altitude_m": _num(0.0, 20000.0, "geopotential altitude of the cycle design (sizing) point", "altitude"),
-        "dT_isa_K": _num(-60.0, 60.0, "temperature offset from ISA", "dT_isa"),
-        "mach": _num(0.0, 0.95, "flight Mach number", "Mach0", lo_open=True),
-        "thrust_required_N": _num(100.0, 1e6, "installed net thrust per engine the airframe needs",
-                                  "thrust_required"),
-    },
-    "installation": {
-        "wing_height_m": _num(0.0, 20.0, "wing lower-surface height above ground at the engine station",
-                              "wing_height", lo_open=True),
-        "nacelle_wing_gap_m": _num(-3.0, 3.0, "gap from nacelle top to wing lower surface (negative: above it)",
-                                   "nacelle_wing_gap"),
-        "min_ground_clearance_m": _num(0.0, 5.0, "minimum nacelle ground clearance (from your airworthiness rules)",
-                                       "min_ground_clearance"),
-        "nacelle_diameter_ratio": _num(1.0, 1.6, "max nacelle diameter / fan tip diameter", "nacelle_diameter_ratio"),
-        "containment_allowance_m": _num(0.0, 0.5, "fan case / containment allowance on the diameter",
-                                        "containment_allowance"),
-        "fan_cowl_length_ratio": _num(0.5, 3.0, "fan-cowl length / max nacelle diameter", "fan_cowl_length_ratio"),
-        "core_cowl_diameter_ratio": _num(1.0, 4.0, "core-cowl max diameter / core entry tip diameter",
-                                         "core_cowl_diameter_ratio"),
-        "core_cowl_length_ratio": _num(0.2, 4.0, "exposed core-cowl length / its diameter", "core_cowl_length_ratio"),
-        "core_exit_diameter_ratio": _num(0.2, 1.0, "core-cowl aft diameter / max diameter",
-                                         "core_exit_diameter_ratio"),
-        "plug_diameter_ratio": _num(0.05, 1.0, "plug base diameter / core-cowl max diameter", "plug_diameter_ratio"),
-        "plug_length_ratio": _num(0.2, 4.0, "plug cone length / its base diameter", "plug_length_ratio"),
-        "nacelle_interference_factor": _num(1.0, 2.0, "interference factor of the fan cowl",
-                                            "nacelle_interference_factor"),
-        "pylon_drag_area_m2": _num(0.0, 5.0, "pylon drag area CD*S", "pylon_drag_area"),
-        "fan_face_mach": _num(0.3, 0.8, "design axial Mach number at the fan face", "fan_face_mach"),
-        "fan_hub_tip_ratio": _num(0.0, 0.6, "fan hub-to-tip ratio", "fan_hub_tip_ratio", hi_open=True),
-        "core_entry_mach": _num(0.2, 0.8, "axial Mach number at the core entry", "core_entry_mach"),
-        "core_entry_hub_tip_ratio": _num(0.0, 0.8, "core entry hub-to-tip ratio", "core_entry_hub_tip_ratio",
-                                         hi_open=True),
-        "fan_tip_loading": _num(0.05, 1.0, "fan tip loading dh/U^2", "fan_tip_loading"),
-    },
-    "limits": {
-        "max_nacelle_diameter_m": _num(0.3, 10.0, "largest nacelle diameter allowed", "max_nacelle_diameter"),
-        "max_Tt41_K": _num(1000.0, 2400.0, "largest HPT rotor inlet temperature (from your engine data)"),
-        "max_Tt3_K": _num(500.0, 1300.0, "largest HPC exit temperature (from your engine data)"),
-        "min_core_size_kg_s": _num(0.0, 100.0, "smallest HPC exit corrected flow"),
-    },
-    "engine": {
-        "fan_bypass_eff_poly": _num(0.5, 1.0, "fan bypass polytropic efficiency", "fan_bypass_eff_poly"),
-        "fan_core_eff_poly": _num(0.5, 1.0, "fan core-side polytropic efficiency", "fan_core_eff_poly"),
-        "booster_eff_poly": _num(0.5, 1.0, "booster polytropic efficiency", "booster_eff_poly"),
-        "hpc_eff_poly": _num(0.5, 1.0, "HPC polytropic efficiency", "hpc_eff_poly"),
-        "hpt_eff_poly": _num(0.5, 1.0, "HPT polytropic efficiency", "hpt_eff_poly"),
-        "lpt_eff_poly": _num(0.5, 1.0, "LPT polytropic efficiency", "lpt_eff_poly"),
-        "HP_mech_eff": _num(0.5, 1.0, "HP spool mechanical efficiency", "HP_mech_eff", lo_open=True),
-        "LP_mech_eff": _num(0.5, 1.0, "LP spool mechanical efficiency", "LP_mech_eff", lo_open=True),
-        "inlet_recovery": _num(0.8, 1.0, "intake total-pressure recovery", "inlet_recovery"),
-        "burner_pressure_loss": _num(0.0, 0.2, "burner total-pressure loss fraction", "burner_pressure_loss"),
-        "combustion_eff": _num(0.5, 1.0, "combustion efficiency", "combustion_eff", lo_open=True),
-        "core_duct_pressure_loss": _num(0.0, 0.2, "core exhaust duct pressure loss fraction",
-                                        "core_duct_pressure_loss"),
-        "bypass_duct_pressure_loss": _num(0.0, 0.2, "bypass duct pressure loss fraction", "bypass_duct_pressure_loss"),
-        "core_nozzle_velocity_coeff": _num(0.8, 1.0, "core nozzle velocity coefficient", "core_nozzle_velocity_coeff"),
-        "bypass_nozzle_velocity_coeff": _num(0.8, 1.0, "bypass nozzle velocity coefficient",
-                                             "bypass_nozzle_velocity_coeff"),
-        "core_nozzle_discharge_coeff": _num(0.8, 1.0, "core nozzle discharge coefficient",
-                                            "core_nozzle_discharge_coeff"),
-        "bypass_nozzle_discharge_coeff": _num(0.8, 1.0, "bypass nozzle discharge coefficient",
-                                              "bypass_nozzle_discharge_coeff"),
-        "booster_PR": _num(1.0, 5.0, "booster pressure ratio", "booster_PR"),
-        "customer_bleed_frac": _num(0.0, 0.1, "customer bleed per unit core flow", "customer_bleed_frac"),
-        "HP_power_offtake_W": _num(0.0, 2e6, "HP shaft power offtake for aircraft systems", "HP_power_offtake"),
-        "fuel_LHV_J_per_kg": _num(1e7, 1.5e8, "fuel lower heating value", "fuel_LHV"),
-        "fuel_hc_ratio": _num(0.5, 4.0, "fuel hydrogen-to-carbon atom ratio"),
-        "vane_metal_temperature_K": _num(900.0, 1700.0, "allowable HPT vane metal temperature (engine data)",
-                                         "vane_metal_temperature"),
-        "rotor_metal_temperature_K": _num(900.0, 1700.0, "allowable HPT blade metal temperature (engine data)",
-                                          "rotor_metal_temperature"),
-        "vane_cooling_constant": _num(0.0, 0.5, "cooling correlation constant of the HPT vanes",
-                                      "vane_cooling_constant"),
-        "rotor_cooling_constant": _num(0.0, 0.5, "cooling correlation constant of the HPT blades",
-                                       "rotor_cooling_constant"),
-        "rotor_relative_temperature_ratio": _num(0.7, 1.0, "rotor-relative / absolute gas temperature",
-                                                 "rotor_relative_temperature_ratio"),
-    },
-    "design_variables": {key: {"type": "dv", "desc": desc, "lo": lo, "hi": hi}
-                         for key, (_, lo, hi, desc) in DESIGN_VARIABLES.items()},
-    "previous_engine": {
-        "BPR": _num(1.0, 25.0, "bypass ratio of the previous-generation engine"),
-        "FPR": _num(1.1, 3.0, "fan pressure ratio of the previous-generation engine"),
-        "OPR": _num(10.0, 80.0, "overall pressure ratio of the previous-generation engine"),
-        "Tt4_K": _num(1100.0, 2200.0, "burner exit temperature of the previous-generation engine"),
-        "efficiency_drop": _num(0.0, 0.1, "points subtracted from every polytropic efficiency"),
-    },
-    "optimizer": {
-        "objective": _str("quantity minimised", ("mission_fuel", "installed_TSFC")),
-        "driver": _str("optimizer", ("SLSQP", "SNOPT", "IPOPT", "pyoptsparse-SLSQP")),
-        "maxiter": _int(1, 1000, "largest number of optimizer iterations"),
-        "tol": _num(1e-12, 1e-2, "optimizer convergence tolerance"),
-    },
-    "carpet": {
-        "BPR_values": _list(1.0, 25.0, "bypass ratios of the carpet (at least 2)"),
-        "OPR_values": _list(10.0, 80.0, "overall pressure ratios of the carpet (at least 2)"),
-        "FPR_mode": _str("FPR at each carpet point", ("fixed", "optimal")),
-    },
-    "trade": {
-        "limit": _str("limit swept by the trade curve",
-                      ("max_nacelle_diameter_m", "wing_height_m", "min_ground_clearance_m", "max_Tt41_K",
-                       "max_Tt3_K")),
-        "values": _list(0.0, 1e4, "values of the swept limit (at least 2)"),
-    },
-}
-
-_DV_KEYS = {"initial", "lower", "upper", "optimize"}
-
 #: Keys renamed in 0.2 (one name per quantity; loss and Mach names in this project's own words):
 #: (section, old key) -> new key. An old key is an error that names the new one, for one release.
 RENAMED_KEYS = {
@@ -193,6 +75,333 @@ RENAMED_KEYS = {
     ("limits", "max_T3_K"): "max_Tt3_K",
 }
 
+# --------------------------------------------------------------------------------------------------------
+# Field builders: the range, meaning and model input of every key live in the pydantic field.
+
+
+def _bounds_kwargs(lo, hi, lo_open=False, hi_open=False):
+    return {("gt" if lo_open else "ge"): lo, ("lt" if hi_open else "le"): hi}
+
+
+def _num(lo, hi, desc, var=None, lo_open=False, hi_open=False, default=None):
+    """Return a number field in [lo, hi] (open ends with ``lo_open``/``hi_open``); ``var`` is the model input it sets.
+
+    Keys whose model input has a value in ``bypassopt.components.defaults`` take that value as default.
+    """
+    if var in INPUT_DEFAULTS:
+        default = INPUT_DEFAULTS[var][0]
+    extra = {"var": var} if var else None
+    return Field(default, description=desc, allow_inf_nan=False, json_schema_extra=extra,
+                 **_bounds_kwargs(lo, hi, lo_open, hi_open))
+
+
+def _int(lo, hi, desc):
+    return Field(None, description=desc, ge=lo, le=hi)
+
+
+def _text(desc):
+    return Field(None, description=desc, max_length=MAX_TEXT_LENGTH)
+
+
+def _choice(desc):
+    return Field(None, description=desc)
+
+
+def _numbers(lo, hi, desc):
+    """Annotation and field of a list of 2 to MAX_LIST_LENGTH numbers in [lo, hi]."""
+    item = Annotated[float, Field(allow_inf_nan=False, ge=lo, le=hi)]
+    return list[item], Field(None, description=desc, min_length=2, max_length=MAX_LIST_LENGTH)
+
+
+class _BoundsError(ValueError):
+    """Inconsistent bounds of a design-variable table; ``sub`` is the entry named in the message ('' for all)."""
+
+    def __init__(self, message, sub=""):
+        super().__init__(message)
+        self.sub = sub
+
+
+def _printable(text):
+    if not text.isprintable():
+        raise ValueError("contains control or other non-printable characters")
+    return text
+
+
+#: Text from a file: printable characters only (no control characters, no line breaks).
+PrintableText = Annotated[str, AfterValidator(_printable)]
+
+
+class _Section(BaseModel):
+    """Common configuration: unknown keys are errors, types are strict (a TOML integer is a number)."""
+
+    model_config = ConfigDict(extra="forbid", strict=True)
+
+
+class DesignVariable(_Section):
+    """One ``[design_variables]`` entry: starting value, bounds, and whether the optimizer moves it."""
+
+    initial: float
+    lower: float
+    upper: float
+    optimize: bool = Field(True, description="let the optimizer move this variable")
+
+    @model_validator(mode="after")
+    def _ordered(self):
+        if not self.lower < self.upper:
+            raise _BoundsError(f"lower = {self.lower:g} must be below upper = {self.upper:g}")
+        if not self.lower <= self.initial <= self.upper:
+            raise _BoundsError(f"= {self.initial:g} is outside its bounds (lower = {self.lower:g} to "
+                               f"upper = {self.upper:g})", sub="initial")
+        return self
+
+
+def _design_variable_model(key, lo, hi, desc):
+    fields = {name: (float, Field(..., description=f"{name} value of the {desc}", allow_inf_nan=False,
+                                  ge=lo, le=hi))
+              for name in ("initial", "lower", "upper")}
+    return create_model(f"DesignVariable_{key}", __base__=DesignVariable, __doc__=f"Design variable {key}: {desc}.",
+                        **fields)
+
+
+_DV_MODELS = {key: _design_variable_model(key, lo, hi, desc) for key, (_, lo, hi, desc) in DESIGN_VARIABLES.items()}
+
+# --------------------------------------------------------------------------------------------------------
+# The sections
+
+
+class Aircraft(_Section):
+    """``[aircraft]``: the airframe the engine is installed on (mission fuel)."""
+
+    name: PrintableText = _text("name of the (invented) aircraft concept")
+    num_engines: int = _int(1, 4, "number of engines")
+    max_takeoff_mass_kg: float = _num(1e3, 1e6, "maximum take-off mass", "max_takeoff_mass")
+    empty_mass_no_engines_kg: float = _num(1e3, 1e6, "operating empty mass without engines and nacelles",
+                                           "empty_mass_no_engines")
+    payload_kg: float = _num(0.0, 5e5, "design payload", "payload")
+    design_range_m: float = _num(1e5, 2e7, "design range flown in cruise", "design_range")
+    lift_to_drag: float = _num(1.0, 40.0, "cruise lift-to-drag ratio of the airframe without nacelles",
+                               "lift_to_drag")
+    reserve_fraction: float = _num(0.0, 0.3, "reserve fuel as a fraction of zero-fuel mass", "reserve_fraction")
+    taxi_takeoff_fraction: float = _num(0.9, 1.0, "mass ratio end/start of taxi and take-off",
+                                        "taxi_takeoff_fraction", lo_open=True)
+    climb_fraction: float = _num(0.9, 1.0, "mass ratio end/start of climb", "climb_fraction", lo_open=True)
+    descent_landing_fraction: float = _num(0.9, 1.0, "mass ratio end/start of descent and landing",
+                                           "descent_landing_fraction", lo_open=True)
+
+
+class DesignPoint(_Section):
+    """``[design_point]``: flight condition and thrust at which the cycle is designed and the engine sized."""
+
+    altitude_m: float = _num(0.0, 20000.0, "geopotential altitude of the cycle design (sizing) point", "altitude")
+    dT_isa_K: float = _num(-60.0, 60.0, "temperature offset from ISA", "dT_isa")
+    mach: float = _num(0.0, 0.95, "flight Mach number", "Mach0", lo_open=True)
+    thrust_required_N: float = _num(100.0, 1e6, "installed net thrust per engine the airframe needs",
+                                    "thrust_required")
+
+
+class Installation(_Section):
+    """``[installation]``: wing and ground geometry, nacelle proportions, fan and core entry sizing."""
+
+    wing_height_m: float = _num(0.0, 20.0, "wing lower-surface height above ground at the engine station",
+                                "wing_height", lo_open=True)
+    nacelle_wing_gap_m: float = _num(-3.0, 3.0, "gap from nacelle top to wing lower surface (negative: above it)",
+                                     "nacelle_wing_gap")
+    min_ground_clearance_m: float = _num(0.0, 5.0,
+                                         "minimum nacelle ground clearance (from your airworthiness rules)",
+                                         "min_ground_clearance")
+    nacelle_diameter_ratio: float = _num(1.0, 1.6, "max nacelle diameter / fan tip diameter",
+                                         "nacelle_diameter_ratio")
+    containment_allowance_m: float = _num(0.0, 0.5, "fan case / containment allowance on the diameter",
+                                          "containment_allowance")
+    fan_cowl_length_ratio: float = _num(0.5, 3.0, "fan-cowl length / max nacelle diameter", "fan_cowl_length_ratio")
+    core_cowl_diameter_ratio: float = _num(1.0, 4.0, "core-cowl max diameter / core entry tip diameter",
+                                           "core_cowl_diameter_ratio")
+    core_cowl_length_ratio: float = _num(0.2, 4.0, "exposed core-cowl length / its diameter",
+                                         "core_cowl_length_ratio")
+    core_exit_diameter_ratio: float = _num(0.2, 1.0, "core-cowl aft diameter / max diameter",
+                                           "core_exit_diameter_ratio")
+    plug_diameter_ratio: float = _num(0.05, 1.0, "plug base diameter / core-cowl max diameter",
+                                      "plug_diameter_ratio")
+    plug_length_ratio: float = _num(0.2, 4.0, "plug cone length / its base diameter", "plug_length_ratio")
+    nacelle_interference_factor: float = _num(1.0, 2.0, "interference factor of the fan cowl",
+                                              "nacelle_interference_factor")
+    pylon_drag_area_m2: float = _num(0.0, 5.0, "pylon drag area CD*S", "pylon_drag_area")
+    fan_face_mach: float = _num(0.3, 0.8, "design axial Mach number at the fan face", "fan_face_mach")
+    fan_hub_tip_ratio: float = _num(0.0, 0.6, "fan hub-to-tip ratio", "fan_hub_tip_ratio", hi_open=True)
+    core_entry_mach: float = _num(0.2, 0.8, "axial Mach number at the core entry", "core_entry_mach")
+    core_entry_hub_tip_ratio: float = _num(0.0, 0.8, "core entry hub-to-tip ratio", "core_entry_hub_tip_ratio",
+                                           hi_open=True)
+    fan_tip_loading: float = _num(0.05, 1.0, "fan tip loading dh/U^2", "fan_tip_loading")
+
+
+class Limits(_Section):
+    """``[limits]``: the nacelle diameter limit (a model input) and the bounds of the cycle constraints."""
+
+    max_nacelle_diameter_m: float = _num(0.3, 10.0, "largest nacelle diameter allowed", "max_nacelle_diameter")
+    max_Tt41_K: float = _num(1000.0, 2400.0, "largest HPT rotor inlet temperature (from your engine data)")
+    max_Tt3_K: float = _num(500.0, 1300.0, "largest HPC exit temperature (from your engine data)")
+    min_core_size_kg_s: float = _num(0.0, 100.0, "smallest HPC exit corrected flow")
+
+
+class Engine(_Section):
+    """``[engine]``: component efficiencies and losses, extractions, fuel and turbine cooling data."""
+
+    fan_bypass_eff_poly: float = _num(0.5, 1.0, "fan bypass polytropic efficiency", "fan_bypass_eff_poly")
+    fan_core_eff_poly: float = _num(0.5, 1.0, "fan core-side polytropic efficiency", "fan_core_eff_poly")
+    booster_eff_poly: float = _num(0.5, 1.0, "booster polytropic efficiency", "booster_eff_poly")
+    hpc_eff_poly: float = _num(0.5, 1.0, "HPC polytropic efficiency", "hpc_eff_poly")
+    hpt_eff_poly: float = _num(0.5, 1.0, "HPT polytropic efficiency", "hpt_eff_poly")
+    lpt_eff_poly: float = _num(0.5, 1.0, "LPT polytropic efficiency", "lpt_eff_poly")
+    HP_mech_eff: float = _num(0.5, 1.0, "HP spool mechanical efficiency", "HP_mech_eff", lo_open=True)
+    LP_mech_eff: float = _num(0.5, 1.0, "LP spool mechanical efficiency", "LP_mech_eff", lo_open=True)
+    inlet_recovery: float = _num(0.8, 1.0, "intake total-pressure recovery", "inlet_recovery")
+    burner_pressure_loss: float = _num(0.0, 0.2, "burner total-pressure loss fraction", "burner_pressure_loss")
+    combustion_eff: float = _num(0.5, 1.0, "combustion efficiency", "combustion_eff", lo_open=True)
+    core_duct_pressure_loss: float = _num(0.0, 0.2, "core exhaust duct pressure loss fraction",
+                                          "core_duct_pressure_loss")
+    bypass_duct_pressure_loss: float = _num(0.0, 0.2, "bypass duct pressure loss fraction",
+                                            "bypass_duct_pressure_loss")
+    core_nozzle_velocity_coeff: float = _num(0.8, 1.0, "core nozzle velocity coefficient",
+                                             "core_nozzle_velocity_coeff")
+    bypass_nozzle_velocity_coeff: float = _num(0.8, 1.0, "bypass nozzle velocity coefficient",
+                                               "bypass_nozzle_velocity_coeff")
+    core_nozzle_discharge_coeff: float = _num(0.8, 1.0, "core nozzle discharge coefficient",
+                                              "core_nozzle_discharge_coeff")
+    bypass_nozzle_discharge_coeff: float = _num(0.8, 1.0, "bypass nozzle discharge coefficient",
+                                                "bypass_nozzle_discharge_coeff")
+    booster_PR: float = _num(1.0, 5.0, "booster pressure ratio", "booster_PR")
+    customer_bleed_frac: float = _num(0.0, 0.1, "customer bleed per unit core flow", "customer_bleed_frac")
+    HP_power_offtake_W: float = _num(0.0, 2e6, "HP shaft power offtake for aircraft systems", "HP_power_offtake")
+    fuel_LHV_J_per_kg: float = _num(1e7, 1.5e8, "fuel lower heating value", "fuel_LHV")
+    fuel_hc_ratio: float = _num(0.5, 4.0, "fuel hydrogen-to-carbon atom ratio", default=FUEL_HC_RATIO)
+    vane_metal_temperature_K: float = _num(900.0, 1700.0, "allowable HPT vane metal temperature (engine data)",
+                                           "vane_metal_temperature")
+    rotor_metal_temperature_K: float = _num(900.0, 1700.0, "allowable HPT blade metal temperature (engine data)",
+                                            "rotor_metal_temperature")
+    vane_cooling_constant: float = _num(0.0, 0.5, "cooling correlation constant of the HPT vanes",
+                                        "vane_cooling_constant")
+    rotor_cooling_constant: float = _num(0.0, 0.5, "cooling correlation constant of the HPT blades",
+                                         "rotor_cooling_constant")
+    rotor_relative_temperature_ratio: float = _num(0.7, 1.0, "rotor-relative / absolute gas temperature",
+                                                   "rotor_relative_temperature_ratio")
+
+
+DesignVariables = create_model(
+    "DesignVariables", __base__=_Section,
+    __doc__="``[design_variables]``: starting value, bounds and 'optimize' flag of each cycle design variable.",
+    **{key: (_DV_MODELS[key], Field(None, description=desc)) for key, (_, _, _, desc) in DESIGN_VARIABLES.items()})
+
+
+class PreviousEngine(_Section):
+    """``[previous_engine]``: the previous-generation engine of the re-engining comparison."""
+
+    BPR: float = _num(1.0, 25.0, "bypass ratio of the previous-generation engine")
+    FPR: float = _num(1.1, 3.0, "fan pressure ratio of the previous-generation engine")
+    OPR: float = _num(10.0, 80.0, "overall pressure ratio of the previous-generation engine")
+    Tt4_K: float = _num(1100.0, 2200.0, "burner exit temperature of the previous-generation engine")
+    efficiency_drop: float = _num(0.0, 0.1, "points subtracted from every polytropic efficiency")
+
+
+class Optimizer(_Section):
+    """``[optimizer]``: objective, driver and its settings."""
+
+    objective: Literal["mission_fuel", "installed_TSFC"] = _choice("quantity minimised")
+    driver: Literal["SLSQP", "SNOPT", "IPOPT", "pyoptsparse-SLSQP"] = _choice("optimizer")
+    maxiter: int = _int(1, 1000, "largest number of optimizer iterations")
+    tol: float = _num(1e-12, 1e-2, "optimizer convergence tolerance")
+
+
+_BPR_LIST, _BPR_FIELD = _numbers(1.0, 25.0, "bypass ratios of the carpet (at least 2)")
+_OPR_LIST, _OPR_FIELD = _numbers(10.0, 80.0, "overall pressure ratios of the carpet (at least 2)")
+_TRADE_LIST, _TRADE_FIELD = _numbers(0.0, 1e4, "values of the swept limit (at least 2)")
+
+
+class Carpet(_Section):
+    """``[carpet]``: grid of the BPR-OPR carpet plot."""
+
+    BPR_values: _BPR_LIST = _BPR_FIELD
+    OPR_values: _OPR_LIST = _OPR_FIELD
+    FPR_mode: Literal["fixed", "optimal"] = _choice("FPR at each carpet point")
+
+
+class Trade(_Section):
+    """``[trade]``: the limit swept by the trade curve and its values."""
+
+    limit: Literal["max_nacelle_diameter_m", "wing_height_m", "min_ground_clearance_m", "max_Tt41_K",
+                   "max_Tt3_K"] = _choice("limit swept by the trade curve")
+    values: _TRADE_LIST = _TRADE_FIELD
+
+
+#: The sections of a scenario file, in file order: name -> pydantic model.
+SECTION_MODELS = {
+    "aircraft": Aircraft,
+    "design_point": DesignPoint,
+    "installation": Installation,
+    "limits": Limits,
+    "engine": Engine,
+    "design_variables": DesignVariables,
+    "previous_engine": PreviousEngine,
+    "optimizer": Optimizer,
+    "carpet": Carpet,
+    "trade": Trade,
+}
+
+# --------------------------------------------------------------------------------------------------------
+# A plain view of the models: {section: {key: spec}} (spec: type, lo, hi, lo_open, hi_open, desc, var, choices)
+
+
+def _bounds(items):
+    """(lo, hi, lo_open, hi_open) from annotated-types constraints (also inside FieldInfo objects)."""
+    lo = hi = None
+    lo_open = hi_open = False
+    for item in items:
+        if isinstance(item, FieldInfo):
+            b = _bounds(item.metadata)
+            lo, lo_open = (b[0], b[2]) if b[0] is not None else (lo, lo_open)
+            hi, hi_open = (b[1], b[3]) if b[1] is not None else (hi, hi_open)
+        elif isinstance(item, annotated_types.Ge):
+            lo, lo_open = item.ge, False
+        elif isinstance(item, annotated_types.Gt):
+            lo, lo_open = item.gt, True
+        elif isinstance(item, annotated_types.Le):
+            hi, hi_open = item.le, False
+        elif isinstance(item, annotated_types.Lt):
+            hi, hi_open = item.lt, True
+    return lo, hi, lo_open, hi_open
+
+
+def _field_spec(field):
+    ann = field.annotation
+    desc = field.description
+    extra = field.json_schema_extra if isinstance(field.json_schema_extra, dict) else {}
+    if isinstance(ann, type) and issubclass(ann, DesignVariable):
+        lo, hi, lo_open, hi_open = _bounds(ann.model_fields["initial"].metadata)
+        return {"type": "dv", "desc": desc, "lo": lo, "hi": hi}
+    if get_origin(ann) is list:
+        lo, hi, lo_open, hi_open = _bounds(get_args(get_args(ann)[0])[1:])
+        return {"type": "list", "lo": lo, "hi": hi, "desc": desc}
+    if get_origin(ann) is Literal:
+        return {"type": "str", "desc": desc, "choices": get_args(ann)}
+    if ann is bool:
+        return {"type": "bool", "desc": desc}
+    lo, hi, lo_open, hi_open = _bounds(field.metadata)
+    if ann is int:
+        return {"type": "int", "lo": lo, "hi": hi, "desc": desc}
+    if ann is float:
+        return {"type": "number", "lo": lo, "hi": hi, "desc": desc, "var": extra.get("var"), "lo_open": lo_open,
+                "hi_open": hi_open}
+    return {"type": "str", "desc": desc, "choices": None}
+
+
+#: {section: {key: spec}}: a plain view of the pydantic models (read-only by convention), in file order.
+SCHEMA = {section: {key: _field_spec(field) for key, field in model.model_fields.items()}
+          for section, model in SECTION_MODELS.items()}
+
+_DV_KEYS = tuple(DesignVariable.model_fields)
+
+# --------------------------------------------------------------------------------------------------------
+# Error messages: one line per error, naming the key, the value, what is wrong, the range and the meaning
+
 
 def _fmt_range(spec):
     lo = ("above " if spec.get("lo_open") else "from ") + f"{spec['lo']:g}"
@@ -200,126 +409,265 @@ def _fmt_range(spec):
     return f"{lo} {hi}"
 
 
-def _check_number(where, value, spec):
-    if isinstance(value, bool) or not isinstance(value, (int, float)):
-        raise ScenarioError(f"{where} = {value!r} must be a number in the range {_fmt_range(spec)} "
-                            f"({spec['desc']}).")
-    value = float(value)
-    lo, hi = spec["lo"], spec["hi"]
-    bad = (not math.isfinite(value) or (value <= lo if spec.get("lo_open") else value < lo)
-           or (value >= hi if spec.get("hi_open") else value > hi))
-    if bad:
-        raise ScenarioError(f"{where} = {value:g} is outside the allowed range ({_fmt_range(spec)}) "
-                            f"for {spec['desc']}.")
-    return value
+def _show(value, limit=60):
+    """Return a value as written in a message: short, and with control characters escaped."""
+    text = repr(value)
+    return text if len(text) <= limit else text[:limit - 3] + "..."
 
 
-def _check_value(where, value, spec):
-    kind = spec["type"]
-    if kind == "number":
-        return _check_number(where, value, spec)
-    if kind == "int":
-        if isinstance(value, bool) or not isinstance(value, int):
-            raise ScenarioError(f"{where} = {value!r} must be a whole number ({spec['desc']}).")
-        if not spec["lo"] <= value <= spec["hi"]:
-            raise ScenarioError(f"{where} = {value} is outside the allowed range (from {spec['lo']} up to "
-                                f"{spec['hi']}) for {spec['desc']}.")
-        return value
-    if kind == "str":
-        if not isinstance(value, str):
-            raise ScenarioError(f"{where} = {value!r} must be a string ({spec['desc']}).")
-        if spec.get("choices") and value not in spec["choices"]:
-            raise ScenarioError(f"{where} = {value!r} is not one of {', '.join(spec['choices'])}.")
-        return value
-    if kind == "bool":
-        if not isinstance(value, bool):
-            raise ScenarioError(f"{where} = {value!r} must be true or false.")
-        return value
-    if kind == "list":
-        if not isinstance(value, list) or len(value) < 2:
-            raise ScenarioError(f"{where} = {value!r} must be a list of at least 2 numbers ({spec['desc']}).")
-        return [_check_number(f"{where}[{i}]", v, spec) for i, v in enumerate(value)]
-    if kind == "dv":
-        if not isinstance(value, dict):
-            raise ScenarioError(f"{where} must be a table with keys initial, lower, upper, optimize.")
-        unknown = set(value) - _DV_KEYS
-        if unknown:
-            raise ScenarioError(f"{where}: unknown key(s) {', '.join(sorted(unknown))}; allowed: "
-                                f"{', '.join(sorted(_DV_KEYS))}.")
-        missing = {"initial", "lower", "upper"} - set(value)
-        if missing:
-            raise ScenarioError(f"{where}: missing key(s) {', '.join(sorted(missing))}.")
-        out = {k: _check_number(f"{where}.{k}", value[k], spec) for k in ("initial", "lower", "upper")}
-        out["optimize"] = _check_value(f"{where}.optimize", value.get("optimize", True), _bool("optimize"))
-        if not out["lower"] < out["upper"]:
-            raise ScenarioError(f"{where}: lower = {out['lower']:g} must be below upper = {out['upper']:g}.")
-        if not out["lower"] <= out["initial"] <= out["upper"]:
-            raise ScenarioError(f"{where}.initial = {out['initial']:g} is outside its bounds "
-                                f"({out['lower']:g} to {out['upper']:g}).")
-        return out
-    raise AssertionError(kind)  # pragma: no cover
+def _show_number(value):
+    if isinstance(value, float):
+        return f"{value:g}"
+    return _show(value)
 
 
-def validate(data, base=None):
-    """Validate a scenario mapping and return it merged over ``base`` (default: the demo scenario).
+def _name(key):
+    """Return a key or section name from a file, safe to print."""
+    return key if isinstance(key, str) and key.isprintable() and len(key) <= 60 else _show(key)
+
+
+_RANGE_ERRORS = {"greater_than", "greater_than_equal", "less_than", "less_than_equal", "finite_number"}
+_MISSING = object()
+
+
+def _number_message(where, value, spec, kind):
+    if kind in _RANGE_ERRORS:
+        return (f"{where} = {_show_number(value)} is outside the allowed range ({_fmt_range(spec)}) "
+                f"for {spec['desc']}.")
+    return f"{where} = {_show(value)} must be a number in the range {_fmt_range(spec)} ({spec['desc']})."
+
+
+def _describe(section, error):
+    """One line for one pydantic error of a section."""
+    loc, kind, value = error["loc"], error["type"], error.get("input", _MISSING)
+    if not loc:  # pragma: no cover - sections are checked to be tables before validation
+        return f"[{section}]: {error['msg']}."
+    key, sub = loc[0], loc[1:]
+    if kind == "extra_forbidden" and not sub:
+        if (section, key) in RENAMED_KEYS:
+            new = RENAMED_KEYS[section, key]
+            return (f"{section}.{key} was renamed to {section}.{new} in bypassopt 0.2; write "
+                    f"{new} = {_show(value)} instead.")
+        return f"unknown key {section}.{_name(key)}; allowed keys in [{section}]: {', '.join(SCHEMA[section])}."
+    spec = SCHEMA[section][key]
+    where = f"{section}.{key}" + "".join(f"[{s}]" if isinstance(s, int) else f".{_name(s)}" for s in sub)
+    desc = spec["desc"]
+    if spec["type"] == "dv":
+        if kind == "extra_forbidden":
+            return f"unknown key {where}; allowed keys: {', '.join(_DV_KEYS)}."
+        if kind == "missing":
+            return (f"{where} is missing: a design variable needs initial, lower and upper "
+                    f"({desc}, {_fmt_range(spec)}).")
+        if kind == "value_error" and isinstance(error.get("ctx", {}).get("error"), _BoundsError):
+            bounds_error = error["ctx"]["error"]
+            if bounds_error.sub:
+                return f"{where}.{bounds_error.sub} {bounds_error} ({desc})."
+            return f"{where}: {bounds_error} ({desc})."
+        if not sub:
+            return (f"{where} = {_show(value)} must be a table with keys {', '.join(_DV_KEYS)} "
+                    f"({desc}, {_fmt_range(spec)}).")
+        if sub == ("optimize",):
+            return f"{where} = {_show(value)} must be true or false."
+        return _number_message(where, value, spec, kind)
+    if spec["type"] == "number":
+        return _number_message(where, value, spec, kind)
+    if spec["type"] == "int":
+        if kind in _RANGE_ERRORS:
+            return (f"{where} = {_show(value)} is outside the allowed range (from {spec['lo']} up to {spec['hi']}) "
+                    f"for {desc}.")
+        return f"{where} = {_show(value)} must be a whole number from {spec['lo']} up to {spec['hi']} ({desc})."
+    if spec["type"] == "list":
+        if sub:
+            return _number_message(where, value, spec, kind)
+        return (f"{where} = {_show(value)} must be a list of 2 to {MAX_LIST_LENGTH} numbers in the range "
+                f"{_fmt_range(spec)} ({desc}).")
+    if spec["type"] == "str":
+        if spec["choices"]:
+            return f"{where} = {_show(value)} is not one of {', '.join(spec['choices'])} ({desc})."
+        if kind == "string_type":
+            return f"{where} = {_show(value)} must be text ({desc})."
+        if kind == "string_too_long":
+            return f"{where} = {_show(value)} is longer than {MAX_TEXT_LENGTH} characters ({desc})."
+        reason = error.get("ctx", {}).get("error", error["msg"])
+        return f"{where} = {_show(value)} {reason}; allowed: printable text ({desc})."
+    return f"{where} = {_show(value)}: {error['msg']} ({desc})."  # pragma: no cover
+
+
+def _too_deep(data):
+    """Where the mapping nests deeper than the schema allows (MAX_DEPTH containers), or None."""
+    stack = [(data, 1, "")]
+    while stack:
+        node, depth, where = stack.pop()
+        children = node.items() if isinstance(node, dict) else enumerate(node)
+        for key, child in children:
+            if isinstance(child, (dict, list)):
+                path = f"{where}.{_name(key)}" if isinstance(key, str) else f"{where}[{key}]"
+                if depth >= MAX_DEPTH:
+                    return path.lstrip(".")
+                stack.append((child, depth + 1, path))
+    return None
+
+
+def _raise(errors, source=None):
+    if len(errors) == 1:
+        raise ScenarioError(errors[0], errors)
+    where = f"scenario file {source}" if source is not None else "the scenario"
+    raise ScenarioError(f"{len(errors)} errors in {where}:\n" + "\n".join(f"  {e}" for e in errors), errors)
+
+
+def validate(data, base=None, source=None):
+    """Validate a scenario mapping and return it merged over ``base`` (default: nothing).
+
+    Every section is checked against its pydantic model; all errors of the mapping are collected,
+    together with the cross-key checks of the merged result, and reported at once.
+
+    Parameters
+    ----------
+    data : dict
+        Scenario sections as read from TOML: {section: {key: value}}.
+    base : dict or None
+        Validated scenario the keys of ``data`` override (the demo scenario for files).
+    source : str or path-like or None
+        File the mapping came from, named in a message of several errors.
+
+    Returns
+    -------
+    dict
+        {section: {key: value}}: numbers as float, design variables as {initial, lower, upper, optimize}.
 
     Raises
     ------
     ScenarioError
-        Naming the section and key, the value and the allowed range.
+        A line per error, naming the section and key, the value, the allowed range and the key's meaning.
     """
     if not isinstance(data, dict):
         raise ScenarioError("a scenario must be a TOML table")
+    deep = _too_deep(data)
+    if deep is not None:
+        raise ScenarioError(f"{deep} nests deeper than the scenario schema allows (a section holds keys whose "
+                            f"values are numbers, text, lists of numbers or design-variable tables).")
     merged = copy.deepcopy(base) if base is not None else {}
+    errors = []
     for section, table in data.items():
-        if section not in SCHEMA:
-            raise ScenarioError(f"unknown section [{section}]; allowed: {', '.join(SCHEMA)}.")
+        if section not in SECTION_MODELS:
+            errors.append(f"unknown section [{_name(section)}]; allowed: {', '.join(SECTION_MODELS)}.")
+            continue
         if not isinstance(table, dict):
-            raise ScenarioError(f"[{section}] must be a table.")
+            errors.append(f"[{section}] must be a table of keys, not {_show(table)}.")
+            continue
+        model = SECTION_MODELS[section]
+        try:
+            checked = model.model_validate(table)
+        except ValidationError as err:
+            details = err.errors(include_url=False)
+            errors.extend(_describe(section, e) for e in details)
+            bad = {e["loc"][0] for e in details if e["loc"]}
+            checked = model.model_validate({k: v for k, v in table.items() if k not in bad})
         out = merged.setdefault(section, {})
-        for key, value in table.items():
-            if (section, key) in RENAMED_KEYS:
-                raise ScenarioError(f"{section}.{key} was renamed to {section}.{RENAMED_KEYS[section, key]} in "
-                                    f"bypassopt 0.2; write {RENAMED_KEYS[section, key]} = {value!r} instead.")
-            if key not in SCHEMA[section]:
-                raise ScenarioError(f"unknown key {section}.{key}; allowed keys in [{section}]: "
-                                    f"{', '.join(SCHEMA[section])}.")
-            out[key] = _check_value(f"{section}.{key}", value, SCHEMA[section][key])
-    _check_consistency(merged)
+        for key in table:
+            if key in checked.model_fields_set:
+                value = getattr(checked, key)
+                out[key] = value.model_dump() if isinstance(value, BaseModel) else value
+    errors.extend(_check_consistency(merged))
+    if errors:
+        _raise(errors, source)
     return merged
 
 
 def _check_consistency(s):
-    """Cross-key checks: limits that no design can meet are reported before any computation."""
+    """Cross-key checks: limits that no design can meet are reported before any computation.
+
+    Returns
+    -------
+    list of str
+        One line per infeasible combination (empty when consistent).
+    """
+    errors = []
     inst, lim = s.get("installation", {}), s.get("limits", {})
     if {"wing_height_m", "nacelle_wing_gap_m", "min_ground_clearance_m"} <= set(inst):
         room = inst["wing_height_m"] - inst["nacelle_wing_gap_m"] - inst["min_ground_clearance_m"]
         if room <= 0.3:
-            raise ScenarioError(
+            errors.append(
                 f"infeasible limits: installation.wing_height_m - nacelle_wing_gap_m - min_ground_clearance_m = "
                 f"{room:g} m leaves no room for a nacelle (needs more than 0.3 m).")
     if "max_nacelle_diameter_m" in lim and lim["max_nacelle_diameter_m"] <= 0.3:
-        raise ScenarioError("infeasible limits: limits.max_nacelle_diameter_m must exceed 0.3 m.")
+        errors.append("infeasible limits: limits.max_nacelle_diameter_m must exceed 0.3 m.")
     ac = s.get("aircraft", {})
     if {"max_takeoff_mass_kg", "empty_mass_no_engines_kg", "payload_kg"} <= set(ac):
         if ac["empty_mass_no_engines_kg"] + ac["payload_kg"] >= ac["max_takeoff_mass_kg"]:
-            raise ScenarioError("infeasible aircraft: empty_mass_no_engines_kg + payload_kg is not below "
-                                "max_takeoff_mass_kg.")
+            errors.append("infeasible aircraft: empty_mass_no_engines_kg + payload_kg is not below "
+                          "max_takeoff_mass_kg.")
     if "Tt4_K" in s.get("design_variables", {}) and "max_Tt41_K" in lim:
         if lim["max_Tt41_K"] <= 1000.0:
-            raise ScenarioError("infeasible limits: limits.max_Tt41_K must exceed 1000 K.")
+            errors.append("infeasible limits: limits.max_Tt41_K must exceed 1000 K.")
+    return errors
 
 
-def demo_scenario():
-    """Return the validated built-in demo scenario (an invented 170-seat twin; see the file's header)."""
+def model_defaults():
+    """Scenario values that default to the model's input defaults (``bypassopt.components.defaults``).
+
+    Returns
+    -------
+    dict
+        {section: {key: value}} of the ``[engine]`` and ``[installation]`` keys and
+        ``limits.max_nacelle_diameter_m``.
+    """
+    out = {}
+    for section, model in SECTION_MODELS.items():
+        values = {key: field.default for key, field in model.model_fields.items()
+                  if not field.is_required() and field.default is not None and not isinstance(field.default, bool)}
+        if values:
+            out[section] = values
+    return out
+
+
+@functools.lru_cache(maxsize=1)
+def _demo():
     text = resources.files("bypassopt").joinpath("data", DEMO_SCENARIO).read_text(encoding="utf-8")
-    data = tomllib.loads(text)
-    s = validate(data)
+    s = validate(tomllib.loads(text), base=model_defaults(), source=DEMO_SCENARIO)
     missing = [f"{sec}.{key}" for sec, keys in SCHEMA.items() for key in keys
                if sec not in ("previous_engine",) and key not in s.get(sec, {})]
     if missing:  # pragma: no cover - guarded by tests
         raise ScenarioError(f"built-in demo scenario lacks {', '.join(missing)}")
     return s
+
+
+def demo_scenario():
+    """Return the validated built-in demo scenario (an invented 170-seat twin; see the file's header).
+
+    Keys the file leaves out of ``[engine]``, ``[installation]`` and ``limits.max_nacelle_diameter_m``
+    take the model's input defaults; every call returns an independent copy.
+    """
+    return copy.deepcopy(_demo())
+
+
+def _read_toml(path):
+    """Parse a scenario file: bounded size, UTF-8 text, TOML; every failure is a one-line ScenarioError."""
+    try:
+        with open(path, "rb") as fh:
+            raw = fh.read(MAX_FILE_BYTES + 1)
+    except OSError as err:
+        raise ScenarioError(f"cannot read scenario file {path}: {err.strerror or err}") from err
+    if len(raw) > MAX_FILE_BYTES:
+        raise ScenarioError(f"scenario file {path} is larger than {MAX_FILE_BYTES // 2**20} MiB; a scenario is a "
+                            f"few kB of TOML text.")
+    if b"\x00" in raw:
+        raise ScenarioError(f"scenario file {path} is a binary file (it contains NUL bytes), not TOML text.")
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as err:
+        raise ScenarioError(f"scenario file {path} is not UTF-8 text (byte 0x{raw[err.start]:02x} at offset "
+                            f"{err.start}); save it as UTF-8.") from None
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as err:
+        raise ScenarioError(f"scenario file {path} is not valid TOML: {_one_line(err)}") from err
+    except RecursionError:
+        raise ScenarioError(f"scenario file {path} nests deeper than the scenario schema allows.") from None
+
+
+def _one_line(err):
+    return " ".join(str(err).split())
 
 
 def load_scenario(path=None):
@@ -328,19 +676,22 @@ def load_scenario(path=None):
     Parameters
     ----------
     path : str or path-like or None
-        TOML file; None gives the built-in demo scenario.
+        TOML file (UTF-8, at most 1 MiB); None gives the built-in demo scenario.
+
+    Returns
+    -------
+    dict
+        The validated scenario merged over the demo: {section: {key: value}}.
+
+    Raises
+    ------
+    ScenarioError
+        The file cannot be read or parsed (one line), or has errors (a line per error, all at once).
     """
     base = demo_scenario()
     if path is None:
         return base
-    try:
-        with open(path, "rb") as fh:
-            data = tomllib.load(fh)
-    except OSError as err:
-        raise ScenarioError(f"cannot read scenario file {path}: {err.strerror}") from err
-    except tomllib.TOMLDecodeError as err:
-        raise ScenarioError(f"scenario file {path} is not valid TOML: {err}") from err
-    return validate(data, base=base)
+    return validate(_read_toml(path), base=base, source=path)
 
 
 def model_inputs(scenario):
@@ -362,7 +713,7 @@ def model_inputs(scenario):
 
 
 def schema_markdown():
-    """Markdown rows (key | meaning | allowed) of every section and key, as shown in README."""
+    """Markdown rows (key | meaning | allowed) of every section and key, generated from the models, as in README."""
     lines = []
     for section, keys in SCHEMA.items():
         lines.append(f"| **[{section}]** | | |")
@@ -373,9 +724,10 @@ def schema_markdown():
             elif kind == "int":
                 allowed = f"{spec['lo']} – {spec['hi']} (integer)"
             elif kind == "str":
-                allowed = ", ".join(spec["choices"]) if spec.get("choices") else "text"
+                allowed = (", ".join(spec["choices"]) if spec.get("choices")
+                           else f"printable text, ≤ {MAX_TEXT_LENGTH} characters")
             elif kind == "list":
-                allowed = f"list of ≥ 2 numbers, {spec['lo']:g} – {spec['hi']:g}"
+                allowed = f"list of 2 – {MAX_LIST_LENGTH} numbers, {spec['lo']:g} – {spec['hi']:g}"
             elif kind == "dv":
                 allowed = f"{{initial, lower, upper, optimize}}, {spec['lo']:g} – {spec['hi']:g}"
             else:  # pragma: no cover

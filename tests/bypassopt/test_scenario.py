@@ -229,3 +229,137 @@ def test_old_design_variable_key_is_rejected_with_the_new_name():
     with pytest.raises(ScenarioError, match=r"design_variables\.T4_K was renamed to design_variables\.Tt4_K"):
         validate({"design_variables": {"T4_K": {"initial": 1650.0, "lower": 1400.0, "upper": 1800.0}}},
                  base=demo_scenario())
+
+
+# --------------------------------------------------------------------------------------------------------
+# All errors at once
+
+
+def test_every_error_of_a_file_in_one_message(tmp_path):
+    """An unknown key, a value out of range and a wrong type: all three reported together, a line each."""
+    text = ("[design_point]\nmach = 1.2\nmach_number = 0.8\n\n"
+            "[engine]\nhpc_eff_poly = \"0.91\"\n")
+    with pytest.raises(ScenarioError) as info:
+        load_scenario(_write(tmp_path, text))
+    msg = str(info.value)
+    assert len(info.value.errors) == 3
+    assert msg.splitlines()[0] == f"3 errors in scenario file {tmp_path / 'scenario.toml'}:"
+    lines = msg.splitlines()[1:]
+    assert len(lines) == 3
+    assert any("design_point.mach = 1.2" in ln and "0.95" in ln and "flight Mach number" in ln for ln in lines)
+    assert any("design_point.mach_number" in ln and "allowed keys" in ln for ln in lines)
+    assert any("engine.hpc_eff_poly = '0.91'" in ln and "HPC polytropic efficiency" in ln for ln in lines)
+
+
+def test_field_errors_and_infeasible_limits_together():
+    """Cross-key checks run on the valid values and are reported with the field errors."""
+    with pytest.raises(ScenarioError) as info:
+        validate({"installation": {"wing_height_m": 1.0}, "aircraft": {"num_engines": 0}}, base=demo_scenario())
+    assert len(info.value.errors) == 2
+    assert "aircraft.num_engines = 0" in str(info.value) and "infeasible limits" in str(info.value)
+
+
+def test_one_error_is_one_line(tmp_path):
+    """A single error is a single line (the command line prints it as is)."""
+    msg = _error(tmp_path, "[design_point]\nmach = 1.2\n")
+    assert "\n" not in msg
+
+
+@pytest.mark.parametrize("text, key", [
+    ("[design_point]\nthrust_required_N = true\n", "design_point.thrust_required_N"),
+    ("[design_variables]\nBPR = { initial = 10.0, lower = false, upper = 16.0 }\n", "design_variables.BPR.lower"),
+    ("[carpet]\nBPR_values = [8.0, true]\n", "carpet.BPR_values[1]"),
+    ("[optimizer]\nmaxiter = true\n", "optimizer.maxiter"),
+])
+def test_bool_is_not_a_number(tmp_path, text, key):
+    """true/false where a number or an integer belongs is a type error (no silent 1.0 or 0.0)."""
+    msg = _error(tmp_path, text)
+    assert f"{key} = True" in msg or f"{key} = False" in msg, msg
+
+
+def test_design_variable_optimize_must_be_bool(tmp_path):
+    msg = _error(tmp_path, "[design_variables]\nBPR = { initial = 10.0, lower = 6.0, upper = 16.0, optimize = 1 }\n")
+    assert "design_variables.BPR.optimize = 1" in msg and "true or false" in msg
+
+
+# --------------------------------------------------------------------------------------------------------
+# Robust loading: bounded, UTF-8, shallow, printable
+
+
+def _error_bytes(tmp_path, data):
+    path = tmp_path / "scenario.toml"
+    path.write_bytes(data)
+    with pytest.raises(ScenarioError) as info:
+        load_scenario(path)
+    msg = str(info.value)
+    assert "\n" not in msg
+    return msg
+
+
+def test_non_utf8_file(tmp_path):
+    """Latin-1 text is not UTF-8: one line naming the file and the offending byte."""
+    msg = _error_bytes(tmp_path, '[aircraft]\nname = "A\xe9ro"\n'.encode("latin-1"))
+    assert "not UTF-8" in msg and "scenario.toml" in msg and "0xe9" in msg
+
+
+def test_binary_file(tmp_path):
+    msg = _error_bytes(tmp_path, b"\x7fELF\x02\x01\x01\x00\x00\x00" + bytes(range(256)))
+    assert "binary" in msg and "scenario.toml" in msg
+
+
+def test_file_larger_than_one_mib(tmp_path):
+    msg = _error_bytes(tmp_path, b"# padding\n" * 110_000)
+    assert "larger than 1 MiB" in msg
+
+
+@pytest.mark.parametrize("data", [
+    b"[carpet]\nBPR_values = [[8.0, 9.0], [10.0, 11.0]]\n",
+    b"[design_variables]\nBPR = { initial = { a = 1 }, lower = 6.0, upper = 16.0 }\n",
+    b"[carpet]\nBPR_values = " + b"[" * 100_000 + b"]" * 100_000 + b"\n",
+])
+def test_nesting_deeper_than_the_schema(tmp_path, data):
+    """Arrays of arrays or tables in a design-variable entry: one line, no RecursionError."""
+    msg = _error_bytes(tmp_path, data)
+    assert "deeper than the scenario schema allows" in msg
+
+
+@pytest.mark.parametrize("name", ["demo\x1b[31m twin", "demo\ttwin", "line\nbreak", "bell\x07"])
+def test_control_characters_in_text(tmp_path, name):
+    """Text with control characters is rejected; the message shows them escaped, never raw."""
+    text = '[aircraft]\nname = "' + name.encode("unicode_escape").decode("ascii").replace("\\x", "\\u00") + '"\n'
+    msg = _error(tmp_path, text)
+    assert "aircraft.name" in msg and "non-printable" in msg
+    assert not any(c in msg for c in "\x1b\x07\t")
+
+
+def test_unknown_key_with_control_characters_is_shown_escaped(tmp_path):
+    msg = _error(tmp_path, '[design_point]\n"mach\\u001b[2J" = 0.8\n')
+    assert "\x1b" not in msg and "\\x1b" in msg and "allowed keys" in msg
+
+
+def test_text_too_long(tmp_path):
+    msg = _error(tmp_path, f'[aircraft]\nname = "{"x" * 300}"\n')
+    assert "aircraft.name" in msg and "200 characters" in msg and len(msg) < 400
+
+
+# --------------------------------------------------------------------------------------------------------
+# The schema view and its models
+
+
+def test_schema_view_comes_from_the_models():
+    """SCHEMA holds every section and key of the pydantic models with the range, meaning and model input."""
+    from bypassopt.scenario import SECTION_MODELS
+
+    assert list(SCHEMA) == list(SECTION_MODELS)
+    for section, model in SECTION_MODELS.items():
+        assert list(SCHEMA[section]) == list(model.model_fields), section
+        for key, field in model.model_fields.items():
+            assert SCHEMA[section][key]["desc"] == field.description, (section, key)
+    spec = SCHEMA["design_point"]["mach"]
+    assert (spec["lo"], spec["hi"], spec["lo_open"], spec["hi_open"], spec["var"]) == (0.0, 0.95, True, False,
+                                                                                      "Mach0")
+    assert SCHEMA["installation"]["fan_hub_tip_ratio"]["hi_open"]
+    assert SCHEMA["optimizer"]["driver"]["choices"] == ("SLSQP", "SNOPT", "IPOPT", "pyoptsparse-SLSQP")
+    assert SCHEMA["design_variables"]["OPR"] == {"type": "dv", "desc": "overall pressure ratio Pt3/Pt2",
+                                                 "lo": 10.0, "hi": 80.0}
+    assert SECTION_MODELS["engine"].model_fields["hpc_eff_poly"].json_schema_extra == {"var": "hpc_eff_poly"}

@@ -1,0 +1,96 @@
+"""One table of defaults: the bare installed-engine group and the demo scenario compute the same engine."""
+
+import tomllib
+from importlib import resources
+
+import openmdao.api as om
+import pytest
+from openmdao.utils.units import unit_conversion
+
+from bypassopt.components.defaults import ENGINE_DEFAULTS, FUEL_HC_RATIO, INPUT_DEFAULTS, INSTALLATION_DEFAULTS
+from bypassopt.components.gas.thermo import ThermallyPerfectGas
+from bypassopt.components.installation.installed_engine_group import InstalledEngineGroup
+from bypassopt.problems.best_cycle import build_evaluation_problem
+from bypassopt.scenario import SCHEMA, load_scenario, model_defaults, model_inputs
+
+#: The design both problems evaluate (README's embedding example).
+DESIGN = {"BPR": 10.0, "FPR": 1.55, "OPR": 45.0, "Tt4": 1650.0}
+
+
+@pytest.fixture(scope="module")
+def bare():
+    """README's embedding example: only the flight condition, the thrust and the cycle choices are set."""
+    prob = om.Problem(reports=False)
+    prob.model.add_subsystem("engine", InstalledEngineGroup(num_engines=2), promotes=["*"])
+    prob.setup()
+    prob.set_val("altitude", 35000.0, units="ft")
+    prob.set_val("dT_isa", 10.0, units="K")
+    prob.set_val("Mach0", 0.78)
+    prob.set_val("thrust_required", 24.0, units="kN")
+    for name, value in DESIGN.items():
+        prob.set_val(name, value, units="K" if name == "Tt4" else None)
+    return prob
+
+
+def _promoted_inputs(prob):
+    meta = prob.model.get_io_metadata(iotypes="input", metadata_keys=["units"], get_remote=True)
+    out = {}
+    for m in meta.values():
+        out.setdefault(m["prom_name"], []).append(m["units"])
+    return out
+
+
+def test_table_is_split_in_engine_and_installation():
+    """INPUT_DEFAULTS is exactly the engine table plus the installation table."""
+    assert not set(ENGINE_DEFAULTS) & set(INSTALLATION_DEFAULTS)
+    assert INPUT_DEFAULTS == {**ENGINE_DEFAULTS, **INSTALLATION_DEFAULTS}
+
+
+def test_every_table_key_is_a_promoted_input_with_matching_units(bare):
+    """Each key names a promoted input of the group; its units equal every connected input's units."""
+    inputs = _promoted_inputs(bare)
+    for name, (value, units) in INPUT_DEFAULTS.items():
+        assert name in inputs, name
+        for model_units in inputs[name]:
+            if units is None:
+                assert model_units is None, name
+            else:
+                assert unit_conversion(units, model_units) == (1.0, 0.0), (name, units, model_units)
+
+
+def test_group_defaults_are_the_table(bare):
+    """Before anything is set, the group's inputs hold the table's values."""
+    prob = om.Problem(InstalledEngineGroup(num_engines=2), reports=False)
+    prob.setup()
+    for name, (value, units) in INPUT_DEFAULTS.items():
+        assert prob.get_val(name, units=units)[0] == value, name
+
+
+def test_scenario_defaults_are_the_table():
+    """The scenario keys that set a table input default to its value, in the same units."""
+    inputs = model_inputs(model_defaults())
+    assert set(INPUT_DEFAULTS) <= set(inputs)
+    for name, (value, units) in INPUT_DEFAULTS.items():
+        assert inputs[name] == (value, units), name
+    assert model_defaults()["engine"]["fuel_hc_ratio"] == FUEL_HC_RATIO == ThermallyPerfectGas().hc_ratio
+
+
+def test_demo_file_repeats_the_table():
+    """The demo file lists every engine and installation key (a complete template) with the table's values."""
+    raw = tomllib.loads(resources.files("bypassopt").joinpath("data", "demo_twin_170.toml").read_text("utf-8"))
+    for section, values in model_defaults().items():
+        for key, value in values.items():
+            assert raw[section][key] == value, (section, key)
+    assert set(model_defaults()["engine"]) == set(SCHEMA["engine"])
+    assert set(model_defaults()["installation"]) == set(SCHEMA["installation"])
+
+
+def test_bare_group_equals_demo_scenario_evaluation(bare):
+    """The bare group (README embedding example) and the demo scenario's evaluation problem agree to 1e-10."""
+    bare.run_model()
+    prob = build_evaluation_problem(load_scenario(), design=DESIGN)
+    prob.run_model()
+    for name, units in (("installed_TSFC", "mg/(N*s)"), ("mission_fuel", "kg"), ("nacelle_max_diameter", "m"),
+                        ("powerplant_mass", "kg")):
+        expected = prob.get_val(name, units=units)[0]
+        assert bare.get_val(name, units=units)[0] == pytest.approx(expected, rel=1e-10), name
