@@ -1,5 +1,6 @@
 """Tests for the coolant mixing component."""
 
+import importlib
 import itertools
 
 import numpy as np
@@ -63,7 +64,7 @@ def test_calorically_perfect_mixing_temperature():
 
 def test_thermally_perfect_against_cantera():
     """Mixed-stream temperature from an independent Cantera enthalpy balance of the frozen species mixture."""
-    ct = pytest.importorskip("cantera")
+    ct = importlib.import_module("cantera")
     gas = ThermallyPerfectGas()
     spc = {s.name: s for s in ct.Species.list_from_file("nasa_gas.yaml")}
     names = ("N2", "O2", "Ar", "CO2", "H2O")
