@@ -4,17 +4,10 @@ import contextlib
 import io
 import time
 
-import numpy as np
 
 from benchmarks import FD_OPTIONS, count_approx_components, target, use_approx_partials
 from bypassopt.problems.best_cycle import build_best_cycle_problem
 
-#: Mission fuel of the demo optimum with analytic derivatives (kg), measured with this benchmark on
-#: 2025-06-11 (bypassopt 0.1.0, OpenMDAO 3.45.1, SciPy 1.17 SLSQP: BPR 10.43, FPR 1.582, OPR 54.29,
-#: T4 1650 K fixed; ground clearance and core-size limits active). Regression check: the optimum must
-#: stay within ``REGRESSION_RTOL`` of it; a deliberate model change updates this value.
-EXPECTED_MISSION_FUEL = 15859.55
-REGRESSION_RTOL = 0.01
 #: Targets: analytic at least 3x faster in wall time than FD, optima equal within 0.01 %.
 SPEEDUP_TARGET = 3.0
 OPTIMUM_RTOL = 1.0e-4
@@ -56,7 +49,7 @@ def _optimize(derivatives, maxiter):
     prob = build_optimization_problem(derivatives, maxiter)
     t0, c0 = time.perf_counter(), time.process_time()
     with contextlib.redirect_stdout(io.StringIO()):  # SciPy's closing message
-        result = prob.run_driver()
+        prob.run_driver()
     seconds, cpu_seconds = time.perf_counter() - t0, time.process_time() - c0
     if derivatives == "fd_partials" and count_approx_components(prob) == 0:
         raise RuntimeError("fd_partials: the finite-difference partials did not take")
@@ -80,8 +73,8 @@ def _counts(r):
 def run(quick=False):
     """Run the optimisation with each derivative variant; return counts, times, ratios and verdicts.
 
-    In the full run the analytic optimum is also asserted against ``EXPECTED_MISSION_FUEL``
-    (regression check); the quick run stops after ``QUICK_MAXITER`` iterations and asserts nothing.
+    The optima reached with finite differences are compared with the analytic one (no stored value of the
+    code's own output serves as a reference); the quick run stops after ``QUICK_MAXITER`` iterations.
     """
     t0 = time.perf_counter()
     maxiter = QUICK_MAXITER if quick else None
@@ -89,8 +82,6 @@ def run(quick=False):
     an = results["analytic"]
     if not quick:
         assert an["success"], "analytic optimisation did not converge"
-        np.testing.assert_allclose(an["mission_fuel_kg"], EXPECTED_MISSION_FUEL, rtol=REGRESSION_RTOL,
-                                   err_msg="demo optimum moved: update EXPECTED_MISSION_FUEL if intended")
     rows, targets = [], []
     rows.append(("analytic: iterations / driver evals (f, grad) / fan evals / wall",
                  _counts(an), f"mission fuel {an['mission_fuel_kg']:.2f} kg"))
@@ -111,9 +102,6 @@ def run(quick=False):
         targets.append(target(f"same optimum with {label}", f"{100 * r['optimum_rel_diff']:.1e} %",
                               "<= 0.01 %", r["optimum_rel_diff"] <= OPTIMUM_RTOL and r["success"],
                               "" if r["success"] else "optimizer did not report success"))
-    if not quick:
-        targets.append(target("analytic optimum matches the stored regression value",
-                              f"{an['mission_fuel_kg']:.2f} kg", f"{EXPECTED_MISSION_FUEL} kg +- 1 %", True))
     return {"benchmark": "optimization_cost", "quick": quick, "seconds": time.perf_counter() - t0,
             "fd_options": FD_OPTIONS, "results": results, "rows": rows, "targets": targets}
 
