@@ -10,6 +10,7 @@ import io
 import json
 import math
 import os
+import re
 import tempfile
 import textwrap
 
@@ -233,7 +234,7 @@ def _saving_words(saving, objective, obj_units):
 
 
 def driver_succeeded(driver_result):
-    """True when a driver run succeeded: OpenMDAO >= 3.27 returns a DriverResult, older ones a failure flag."""
+    """Return True when a driver run succeeded: OpenMDAO >= 3.27 returns a DriverResult, older ones a failure flag."""
     if isinstance(driver_result, (bool, np.bool_)):
         return not bool(driver_result)
     return bool(driver_result.success)
@@ -316,7 +317,11 @@ def optimum_summary(prob, settings, driver_result):
 
 
 def summary_rows(summary):
-    """One row per quantity of a summary, ``{name, value, units}``, for a CSV file."""
+    """One row per quantity of a summary, ``{name, value, units}``, for a CSV file.
+
+    The ``value`` column holds numbers only: flags are written as 1 or 0, and an entry without a value is left
+    out (the caution goes into a comment line, see ``write_csv``).
+    """
     rows = [{"name": name, "value": q["value"], "units": q["units"] or ""}
             for name, q in summary.get("quantities", {}).items()]
     opt = summary.get("optimizer")
@@ -324,6 +329,7 @@ def summary_rows(summary):
         for key in ("success", "iterations", "model_evaluations", "derivative_evaluations",
                     "failed_evaluations"):
             rows.append({"name": f"optimizer_{key}", "value": opt[key], "units": ""})
+        rows.append({"name": "optimizer_runtime", "value": opt["runtime_s"], "units": "s"})
     if "objective" in summary:
         obj = summary["objective"]
         rows.append({"name": f"objective_{obj['name']}", "value": obj["value"], "units": obj["units"]})
@@ -334,7 +340,10 @@ def summary_rows(summary):
     for key in ("projected_gradient", "complementarity"):
         if "kkt" in summary:
             rows.append({"name": f"kkt_{key}", "value": summary["kkt"][key], "units": ""})
-    return rows
+    for row in rows:
+        if isinstance(row["value"], (bool, np.bool_)):
+            row["value"] = int(row["value"])
+    return [r for r in rows if r["value"] is not None]
 
 
 # ---------------------------------------------------------------------------------------------------------
@@ -385,18 +394,82 @@ def text_table(headers, rows, align):
     return out
 
 
+class TextTable:
+    """A table inside a report: column headers, rows of cells and one alignment letter ('l'/'r') per column.
+
+    A report is a list of blocks, each a string (one or more lines) or a ``TextTable``. ``render_plain``
+    writes it as plain text (``text_table``; files, pipes and the tests), ``render_rich`` prints it on a
+    terminal with rich tables.
+    """
+
+    def __init__(self, headers, rows, align):
+        self.headers = [str(h) for h in headers]
+        self.rows = [[str(c) for c in row] for row in rows]
+        self.align = align
+
+    def lines(self):
+        """Return the plain-text lines of the table."""
+        return text_table(self.headers, self.rows, self.align)
+
+
+_CONTROL = re.compile("[\x00-\x08\x0b-\x1f\x7f-\x9f\u200e\u200f\u202a-\u202e\u2066-\u2069]")
+
+
+def clean_text(text, keep_newlines=False):
+    """Return ``text`` with control characters (escape sequences, carriage returns, bidi overrides) removed.
+
+    For strings that come from a scenario file (the aircraft name): they reach terminals and text files.
+    Tabs, and newlines unless ``keep_newlines``, become spaces.
+    """
+    text = str(text).replace("\t", " ")
+    if not keep_newlines:
+        text = text.replace("\n", " ")
+    return _CONTROL.sub("", text)
+
+
+def render_plain(blocks):
+    """Plain text of a report (a list of strings and ``TextTable`` blocks), ending in a newline."""
+    lines = []
+    for block in blocks:
+        lines += block.lines() if isinstance(block, TextTable) else [block]
+    return "\n".join(lines) + "\n"
+
+
+def render_rich(blocks, console):
+    """Print a report on a rich ``Console``: text as it is (markup escaped), tables as rich tables."""
+    from rich import box
+    from rich.markup import escape
+    from rich.table import Table
+
+    for block in blocks:
+        if isinstance(block, TextTable):
+            table = Table(box=box.SIMPLE_HEAD, show_edge=False, pad_edge=False, header_style="bold")
+            for header, align in zip(block.headers, block.align):
+                table.add_column(escape(clean_text(header)), justify="right" if align == "r" else "left")
+            for row in block.rows:
+                table.add_row(*(escape(clean_text(c)) for c in row))
+            console.print(table)
+        else:
+            console.print(escape(clean_text(block, keep_newlines=True)), highlight=False)
+
+
 def _wrap(text, indent=""):
     return textwrap.fill(text, width=100, initial_indent=indent, subsequent_indent=indent)
 
 
 def format_summary(summary):
     """Readable terminal report of a design or optimum summary (plain words, aligned columns)."""
+    return render_plain(summary_blocks(summary))
+
+
+def summary_blocks(summary):
+    """Return the report of ``format_summary`` as blocks (strings and ``TextTable``) for the renderers."""
     out = []
     title = "bypassopt: best installed cycle" if "optimizer" in summary else "bypassopt: design evaluation"
     out.append(title)
     out.append("=" * len(title))
     if summary.get("scenario"):
-        out.append(f"Scenario: {summary['scenario']}")
+        out.append(f"Scenario: {clean_text(summary['scenario'])}")
     out.append(_wrap("CAUTION: " + summary.get("caution", CAUTION)))
     out.append("")
 
@@ -424,7 +497,7 @@ def format_summary(summary):
             rows.append((GROUP_TITLES.get(group, group) + ":", "", "", ""))
         rows.append(("  " + q["description"], format_number(q["value"]), q["units"] or "", name))
     out.append("Design")
-    out += text_table(("quantity", "value", "units", "variable"), rows, "lrll")
+    out.append(TextTable(("quantity", "value", "units", "variable"), rows, "lrll"))
     out.append("")
 
     if not opt and summary.get("limits"):
@@ -434,7 +507,7 @@ def format_summary(summary):
             words, value, sense, limit = _shown_limit(summary, name, c)
             rows.append((words, format_number(value), f"{sense} {format_number(limit)}",
                          format_number(c["margin"]), c["units"], "met" if c["met"] else "violated"))
-        out += text_table(("limit", "value", "limit", "margin", "units", ""), rows, "lrrrll")
+        out.append(TextTable(("limit", "value", "limit", "margin", "units", ""), rows, "lrrrll"))
         out.append("")
 
     if opt:
@@ -446,14 +519,14 @@ def format_summary(summary):
                          format_number(c["margin"]), c["units"] or "", "active" if c["active"] else "",
                          format_number(c["shadow_price"], 4) if c["active"] else "", c["shadow_price_units"]
                          if c["active"] else ""))
-        out += text_table(("limit", "value", "limit", "margin", "units", "", "shadow price", "per"), rows,
-                      "lrrrllrl")
+        out.append(TextTable(("limit", "value", "limit", "margin", "units", "", "shadow price", "per"), rows,
+                             "lrrrllrl"))
         bound_rows = [(name, format_number(b["value"]), format_number(b["lower"]), format_number(b["upper"]),
                        f"at {b['active']} bound" if b["active"] else "free")
                       for name, b in summary["bounds"].items()]
         out.append("")
         out.append("Design-variable bounds")
-        out += text_table(("variable", "value", "lower", "upper", "status"), bound_rows, "lrrrl")
+        out.append(TextTable(("variable", "value", "lower", "upper", "status"), bound_rows, "lrrrl"))
         fixed = summary.get("fixed_design_variables") or {}
         if fixed:
             out.append("  held fixed by the scenario: " + ", ".join(
@@ -482,9 +555,9 @@ def format_summary(summary):
     rows = [(r["station"], r["location"], fixed(r["Tt_K"], ".1f"), fixed(r["Pt_kPa"], ".2f"),
              fixed(r["FAR"], ".5f"), fixed(r["W_kg_s"], ".3f"), fixed(r["Ps_kPa"], ".2f"),
              fixed(r["Mach"], ".3f")) for r in summary["stations"]]
-    out += text_table(("station", "where", "Tt K", "Pt kPa", "fuel/air", "flow kg/s", "Ps kPa", "Mach"), rows,
-                  "llrrrrrr")
-    return "\n".join(out) + "\n"
+    out.append(TextTable(("station", "where", "Tt K", "Pt kPa", "fuel/air", "flow kg/s", "Ps kPa", "Mach"), rows,
+                         "llrrrrrr"))
+    return out
 
 
 #: How a limit reads in the text tables: output -> (words, quantity shown instead of a margin, its sense).
@@ -583,12 +656,17 @@ def write_json(path, obj):
     return write_text(path, to_json(obj))
 
 
-def write_csv(path, rows):
+def write_csv(path, rows, comments=()):
     """Write rows atomically: a list of dicts (header from their keys) or of sequences (first row = header).
 
-    None is written as an empty cell; floats with full precision.
+    None is written as an empty cell; floats with full precision. Each of ``comments`` becomes a leading
+    ``# ...`` line (the caution, say), so that the columns hold data only; read such a file with
+    ``pandas.read_csv(path, comment="#")``, or skip the lines that start with '#' before ``csv.DictReader``.
     """
     buf = io.StringIO()
+    for comment in comments:
+        for line in clean_text(comment, keep_newlines=True).splitlines() or [""]:
+            buf.write(f"# {line}".rstrip() + "\n")
     rows = list(rows)
     if rows and isinstance(rows[0], dict):
         fields = []

@@ -1,6 +1,7 @@
 """The ``bypassopt`` command line end to end: every command in a subprocess on a small demo scenario."""
 
 import csv
+import io
 import importlib.util
 import json
 import os
@@ -44,8 +45,23 @@ def bypassopt(*args, cwd):
 
 
 def _read_csv(path):
+    """Rows of a CSV file as dicts; leading '#' comment lines (the caution) are skipped."""
     with open(path, newline="", encoding="utf-8") as fh:
-        return list(csv.DictReader(fh))
+        return list(csv.DictReader(line for line in fh if not line.startswith("#")))
+
+
+def _comments(path):
+    with open(path, encoding="utf-8") as fh:
+        return [line[2:].rstrip("\n") for line in fh if line.startswith("# ")]
+
+
+def _assert_numeric_values(path):
+    """Every row's value column is a number (the caution is a comment line, flags are 1/0)."""
+    rows = _read_csv(path)
+    assert rows and list(rows[0]) == ["name", "value", "units"]
+    for r in rows:
+        float(r["value"])  # raises on text
+    assert _comments(path) == [f"CAUTION: {CAUTION}"]
 
 
 def _assert_png(path):
@@ -95,16 +111,26 @@ def test_optimize_outputs(optimized):
     assert sorted(os.listdir(out)) == sorted(names)
     optimum = json.loads((out / "optimum.json").read_text())
     assert optimum["quantities"] == result["quantities"]
-    rows = _read_csv(out / "optimum.csv")
-    assert list(rows[0]) == ["name", "value", "units"]
-    values = {r["name"]: r for r in rows}
-    assert values["caution"]["value"] == CAUTION
+    _assert_numeric_values(out / "optimum.csv")
+    values = {r["name"]: r for r in _read_csv(out / "optimum.csv")}
+    assert "caution" not in values and float(values["optimizer_success"]["value"]) == 1.0
+    opt = optimum["optimizer"]
+    assert float(values["optimizer_iterations"]["value"]) == opt["iterations"]
+    assert float(values["optimizer_model_evaluations"]["value"]) == opt["model_evaluations"]
     assert float(values["mission_fuel"]["value"]) == optimum["quantities"]["mission_fuel"]["value"]
     assert values["installed_TSFC"]["units"] == "mg/(N*s)"
     stations = _read_csv(out / "stations.csv")
     assert [r["station"] for r in stations][:3] == ["0", "2", "13"] and len(stations) == 15
     summary = (out / "summary.txt").read_text()
     assert CAUTION in " ".join(summary.split()) and "would save" in summary
+    assert "\x1b" not in summary
+    # progress on a pipe: plain lines, no carriage returns or escape codes; its closing line gives the
+    # driver's counts and time, as the summary does
+    assert "\r" not in run.stderr and "\x1b" not in run.stderr
+    counts = (f"optimize: converged after {opt['iterations']} iterations, {opt['model_evaluations']} model "
+              f"evaluations in {opt['runtime_s']:.1f} s")
+    assert counts in run.stderr.splitlines()
+    assert (f"{opt['iterations']} iterations, {opt['model_evaluations']} model evaluations" in summary)
     _no_leftovers(out)
 
 
@@ -115,8 +141,10 @@ def test_optimize_json_matches_recorder(optimized):
     optimum = json.loads((out / "optimum.json").read_text())
     reader = om.CaseReader(str(out / "history.sqlite"))
     cases = reader.list_cases("driver", recurse=False, out_stream=None)
-    # every model evaluation, plus the returned point when the last evaluation was not it
-    assert len(cases) - optimum["optimizer"]["model_evaluations"] in (0, 1)
+    # every model evaluation that did not fail (failed ones are listed by the driver, not recorded), the
+    # re-evaluation at the returned point included
+    opt = optimum["optimizer"]
+    assert len(cases) - (opt["model_evaluations"] - opt["failed_evaluations"]) in (0, 1)
     last = reader.get_case(cases[-1])
     for name in ("BPR", "FPR", "OPR"):
         assert optimum["quantities"][name]["value"] == pytest.approx(float(last[name][0]), rel=RECORD_RTOL)
@@ -154,6 +182,9 @@ def test_evaluate(tmp_path):
     assert sorted(os.listdir(out)) == ["design.csv", "design.json", "stations.csv", "summary.txt"]
     assert json.loads((out / "design.json").read_text())["quantities"] == q
     assert len(_read_csv(out / "stations.csv")) == 15
+    _assert_numeric_values(out / "design.csv")
+    design = {r["name"]: float(r["value"]) for r in _read_csv(out / "design.csv")}
+    assert design["BPR"] == 12.0 and design["mission_fuel"] == q["mission_fuel"]["value"]
 
 
 def test_evaluate_human_and_quiet(tmp_path, capsys, monkeypatch):
@@ -195,7 +226,8 @@ def test_trade(tmp_path, fast_scenario):
     out = tmp_path / "res"
     json.loads((out / "trade.json").read_text())
     rows = _read_csv(out / "trade.csv")
-    assert len(rows) == 2
+    # the two values asked for, plus any point the trade curve adds where the active limits change
+    assert {2.2, 2.4} <= {float(r["max_nacelle_diameter_m"]) for r in rows} and len(rows) >= 2
     if HAVE_MATPLOTLIB:
         _assert_png(out / "trade.png")
 
@@ -225,8 +257,8 @@ def test_check_derivatives(tmp_path):
 
 
 def test_check_derivatives_failure_exit_code(tmp_path, capsys, monkeypatch):
-    """A derivative error above the tolerance: exit 3, one line, the files still written."""
-    import bypassopt.cli as cli
+    """A derivative error above the tolerance: exit 3, one line, the files still written; --json stays JSON."""
+    import bypassopt.commands.check_derivatives as command
 
     def failing(scenario, tolerance):
         comp = {"component": "cycle.hpc", "max_relative_error": 1e-3, "of": "Tt3", "wrt": "OPR"}
@@ -236,11 +268,16 @@ def test_check_derivatives_failure_exit_code(tmp_path, capsys, monkeypatch):
                 "partials": {"max_relative_error": 1e-3, "components": [comp]}}
 
     monkeypatch.chdir(tmp_path)
-    monkeypatch.setattr(cli, "check_derivatives", failing)
+    monkeypatch.setattr(command, "check_derivatives", failing)
     assert main(["check-derivatives", "--out", "res", "--quiet"]) == 3
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "above the tolerance" in err and "kept in res" in err
     assert json.loads((tmp_path / "res" / "derivatives.json").read_text())["passed"] is False
+    assert main(["check-derivatives", "--out", "res", "--json"]) == 3
+    captured = capsys.readouterr()
+    result = json.loads(captured.out)  # the whole of stdout is one JSON document
+    assert result["passed"] is False and "above the tolerance" in result["error"]
+    assert sorted(os.path.basename(f) for f in result["files"]) == ["derivatives.csv", "derivatives.json"]
 
 
 def test_scenario_template(tmp_path):
@@ -250,6 +287,9 @@ def test_scenario_template(tmp_path):
     assert run.returncode == 0 and run.stdout == demo_text
     run = bypassopt("scenario", "--write", "my.toml", cwd=tmp_path)
     assert run.returncode == 0 and (tmp_path / "my.toml").read_text() == demo_text
+    # the message names the file written, and no output folder
+    assert run.stdout.splitlines()[0].startswith("Scenario written to my.toml.")
+    assert "bypassopt_results" not in run.stdout and "Files written to" not in run.stdout
     assert load_scenario(tmp_path / "my.toml") == demo_scenario()
     run = bypassopt("scenario", "--write", "my.toml", cwd=tmp_path)
     assert run.returncode == 2 and "--force" in run.stderr and len(run.stderr.splitlines()) == 1
@@ -342,3 +382,80 @@ def test_unexpected_error(tmp_path, capsys, monkeypatch):
     assert main(["evaluate", "--debug"]) == 1
     err = capsys.readouterr().err
     assert "Traceback" in err and err.splitlines()[-1] == "bypassopt: error: unexpected RuntimeError: something broke"
+
+
+# --------------------------------------------------------------------------------------------------------
+# progress and terminal output
+
+
+class _Terminal(io.StringIO):
+    """A captured stream that says it is a terminal."""
+
+    def isatty(self):
+        return True
+
+
+def test_progress_on_a_pipe_is_plain():
+    """Not a terminal: whole lines, no carriage return, no escape code (not even from the text shown)."""
+    from bypassopt.commands._run import ProgressDisplay
+
+    stream = io.StringIO()
+    progress = ProgressDisplay("carpet", stream=stream, interval_s=0.0)
+    progress(1, 4, "point \x1b[31mone\x1b[0m\r")
+    progress(2, 4, "[bold]two[/bold]")
+    progress.finish()
+    text = stream.getvalue()
+    assert "\r" not in text and "\x1b" not in text
+    lines = text.splitlines()
+    assert lines[0].startswith("carpet: 1/4 point [31mone[0m") and "[bold]two[/bold]" in lines[1]
+    assert lines[-1].startswith("carpet: finished in ") and len(lines) == 3
+
+
+def test_progress_on_a_pipe_is_throttled():
+    from bypassopt.commands._run import ProgressDisplay
+
+    stream = io.StringIO()
+    progress = ProgressDisplay("trade", stream=stream, interval_s=3600.0)
+    for k in range(50):
+        progress(k + 1, 50, "point")
+    progress.finish("done", seconds=1.25)
+    assert stream.getvalue().splitlines() == ["trade: 1/50 point (0 s)", "trade: done in 1.2 s"]
+
+
+def test_progress_on_a_terminal_is_transient():
+    """A terminal gets rich's live display, cleared at the end; one closing line stays."""
+    from bypassopt.commands._run import ProgressDisplay
+
+    stream = _Terminal()
+    progress = ProgressDisplay("optimize", stream=stream)
+    progress(None, None, "iteration 1, evaluation 2: [red]x")
+    progress.finish("converged after 3 iterations, 5 model evaluations", seconds=2.0)
+    assert stream.getvalue().endswith("optimize: converged after 3 iterations, 5 model evaluations in 2.0 s\n")
+    quiet = _Terminal()
+    progress = ProgressDisplay("optimize", enabled=False, stream=quiet)
+    progress(1, 2, "x")
+    progress.finish()
+    assert quiet.getvalue() == ""
+
+
+def test_report_blocks_render_the_same_plain_text():
+    """The reengine report written from blocks reads as problems.reengine's own text; a hostile name is cleaned."""
+    from bypassopt.commands.reengine import reengine_blocks
+    from bypassopt.problems.reengine import format_reengining
+    from bypassopt.report import render_plain, render_rich
+
+    result = {"caution": CAUTION, "scenario": "Demo twin", "thrust_required_N": 24000.0, "notes": ["a note"],
+              "previous_engine": {"BPR": 5.0, "FPR": 1.7, "OPR": 30.0, "Tt4_K": 1550.0, "efficiency_drop": 0.02},
+              "optimizer": {"driver": "SciPy SLSQP", "success": True, "iterations": 9},
+              "comparison": [{"name": "mission_fuel", "description": "mission fuel", "previous": 18000.0,
+                              "new": 16000.0, "difference": -2000.0, "difference_pct": -11.1, "units": "kg"}]}
+    assert render_plain(reengine_blocks(result)) == format_reengining(result)
+    result["scenario"] = "[bold red]Jet[/bold red]\x1b[2J\rname"
+    plain = render_plain(reengine_blocks(result))
+    assert "Scenario: [bold red]Jet[/bold red][2Jname" in plain
+    from rich.console import Console
+
+    buf = io.StringIO()
+    render_rich(reengine_blocks(result), Console(file=buf, force_terminal=True, width=120))
+    shown = buf.getvalue()
+    assert "[bold red]Jet[/bold red]" in shown and "\x1b[2J" not in shown and "\r" not in shown

@@ -1,6 +1,7 @@
 """Reports: station flows conserve mass, summaries carry the caution, shadow prices read right, files are atomic."""
 
 import csv
+import io
 import json
 import os
 
@@ -9,8 +10,9 @@ import pytest
 
 from bypassopt import CAUTION
 from bypassopt.problems.best_cycle import build_best_cycle_problem, build_evaluation_problem
-from bypassopt.report import (QUANTITIES, design_summary, format_number, format_summary, optimum_summary,
-                              station_table, summary_rows, write_csv, write_json, write_text)
+from bypassopt.report import (QUANTITIES, TextTable, clean_text, design_summary, format_number, format_summary,
+                              optimum_summary, render_plain, render_rich, station_table, summary_blocks,
+                              summary_rows, text_table, write_csv, write_json, write_text)
 
 #: Flows are products of converged model outputs: they add up to round-off.
 MASS_RTOL = 1e-12
@@ -239,3 +241,40 @@ def test_writers_round_trip(tmp_path):
     with open(tmp_path / "b.csv", newline="") as fh:
         rows = list(csv.reader(fh))
     assert rows == [["name", "value"], ["pi", repr(np.pi)], ["none", ""]]
+
+
+def test_summary_rows_are_numbers(optimised, tmp_path):
+    """The value column of a summary CSV holds numbers only; the caution is a leading comment line."""
+    prob, settings, result = optimised
+    s = optimum_summary(prob, settings, result)
+    rows = summary_rows(s)
+    assert all(isinstance(r["value"], (int, float)) and not isinstance(r["value"], bool) for r in rows)
+    values = {r["name"]: r["value"] for r in rows}
+    assert values["optimizer_success"] == 1 and values["optimizer_iterations"] == prob.driver.optimizer_result.nit
+    assert values["optimizer_runtime"] == s["optimizer"]["runtime_s"]
+    write_csv(tmp_path / "o.csv", rows, comments=[f"CAUTION: {CAUTION}"])
+    lines = (tmp_path / "o.csv").read_text().splitlines()
+    assert lines[0] == f"# CAUTION: {CAUTION}" and lines[1] == "name,value,units"
+    with open(tmp_path / "o.csv", newline="") as fh:
+        read = list(csv.DictReader(line for line in fh if not line.startswith("#")))
+    assert [float(r["value"]) for r in read] == [float(r["value"]) for r in rows]
+
+
+def test_plain_and_rich_reports(evaluated):
+    """Plain text is text_table's; rich draws the same cells; a scenario name cannot inject markup or escapes."""
+    s = design_summary(evaluated)
+    s["scenario"] = "[link=http://x]A320[/link]\x1b[31m red\r\nline\u202e"
+    blocks = summary_blocks(s)
+    text = render_plain(blocks)
+    assert text == format_summary(s) and "\x1b" not in text and "\r" not in text and "\u202e" not in text
+    assert "Scenario: [link=http://x]A320[/link][31m red line" in text
+    table = next(b for b in blocks if isinstance(b, TextTable) and b.headers[0] == "station")
+    assert table.lines() == text_table(table.headers, table.rows, table.align)
+    from rich.console import Console
+
+    buf = io.StringIO()
+    render_rich(blocks, Console(file=buf, force_terminal=True, width=140, color_system="standard"))
+    shown = buf.getvalue()
+    assert "[link=http://x]A320[/link]" in shown and "\x1b]8;" not in shown and "\x1b[31m" not in shown
+    assert "free stream" in shown and "HPT rotor entry" in shown
+    assert clean_text("a\tb\nc", keep_newlines=True) == "a b\nc"

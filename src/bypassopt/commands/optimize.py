@@ -1,0 +1,81 @@
+"""``bypassopt optimize``: the best installed cycle, with reports and plots."""
+
+from bypassopt.commands._run import (EXIT_OK, NotConverged, check_driver, optimizer_counts, precheck_design,
+                                     progress_callback, require, require_matplotlib, write_png,
+                                     write_summary_files)
+
+NAME = "optimize"
+OUTPUTS = ("history.sqlite", "optimum.json", "optimum.csv", "stations.csv", "summary.txt", "convergence.png",
+           "carpet.png")
+DRIVERS = ("SLSQP", "SNOPT", "IPOPT", "pyoptsparse-SLSQP")
+OBJECTIVES = ("mission_fuel", "installed_TSFC")
+
+
+def add_parser(sub, common):
+    """Add the ``optimize`` command and its options."""
+    p = sub.add_parser(NAME, parents=[common], help="find the best installed cycle",
+                       description="Find the best installed cycle within the scenario's limits and report the "
+                                   "active limits with their shadow prices. Writes history.sqlite, "
+                                   "optimum.json, optimum.csv, stations.csv, summary.txt, convergence.png and "
+                                   "carpet.png.")
+    p.add_argument("--objective", choices=OBJECTIVES,
+                   help="quantity to minimise (default: the scenario's optimizer.objective)")
+    p.add_argument("--driver", choices=DRIVERS,
+                   help="optimizer; all but SLSQP need pyoptsparse (default: the scenario's optimizer.driver)")
+    p.add_argument("--no-plots", action="store_true", help="skip convergence.png and carpet.png")
+    return p
+
+
+def run(run, scenario):
+    """Find the best installed cycle; return (summary, exit code)."""
+    from bypassopt.problems.best_cycle import OBJECTIVES as OBJECTIVE_UNITS
+    from bypassopt.problems.best_cycle import build_best_cycle_problem
+    from bypassopt.report import driver_succeeded, optimum_summary
+
+    args = run.args
+    check_driver(args.driver or scenario["optimizer"]["driver"])
+    plots = not args.no_plots
+    if plots:
+        require_matplotlib("plotting (convergence.png, carpet.png)")
+        plot_convergence, plot_carpet = require("bypassopt.plots", ("plot_convergence", "plot_carpet"),
+                                                "plotting (convergence.png, carpet.png; or add --no-plots)")
+        (run_carpet,) = require("bypassopt.problems.carpet", ("run_carpet",),
+                                "the carpet around the optimum (carpet.png; or add --no-plots)")
+    objective = args.objective or scenario["optimizer"]["objective"]
+    with run.quiet_stdout():
+        precheck_design(scenario)
+    run.prepare_out()
+    history = run.out_path("history.sqlite")
+    progress = run.progress("optimize")
+    with run.quiet_stdout():
+        prob, settings = build_best_cycle_problem(scenario, objective=objective, driver=args.driver,
+                                                  recorder_path=history, reports=False)
+        obj_name, obj_units, _ = OBJECTIVE_UNITS[objective]
+        if "callback" in prob.driver.options:
+            prob.driver.options["callback"] = progress_callback(progress, obj_name, obj_units)
+        result = prob.run_driver()
+        success = driver_succeeded(result)
+        summary = optimum_summary(prob, settings, result)
+        prob.cleanup()
+    # the closing line and the summary give the same counts and time: the driver's
+    opt = summary["optimizer"]
+    state = "converged" if success else "stopped without converging"
+    progress.finish(f"{state} after {optimizer_counts(opt)}", seconds=opt["runtime_s"])
+    run.wrote(history)
+    write_summary_files(run, summary, "optimum")
+    if plots:
+        with run.quiet_stdout():
+            write_png(run, "convergence.png", plot_convergence, history)
+    if not success:
+        raise NotConverged(f"the optimizer did not converge ({opt['message'] or 'no message'})", summary)
+    if plots:
+        q = summary["quantities"]
+        optimum = {"BPR": q["BPR"]["value"], "OPR": q["OPR"]["value"], "FPR": q["FPR"]["value"],
+                   "objective": summary["objective"]["value"]}
+        cprog = run.progress("carpet around the optimum")
+        with run.quiet_stdout():
+            carpet = run_carpet(scenario, fpr_mode="fixed", fixed_fpr=q["FPR"]["value"], progress=cprog)
+        cprog.finish()
+        with run.quiet_stdout():
+            write_png(run, "carpet.png", plot_carpet, carpet, optimum=optimum)
+    return summary, EXIT_OK
