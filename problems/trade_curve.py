@@ -123,7 +123,143 @@ def _scenario_at(scenario, limit, value):
     return validate({section: {limit: float(value)}}, base=scenario)
 
 
-def run_trade_curve(scenario=None, limit=None, values=None, progress=None, reports=False):
+#: How the swept constraint's margin (signed, >= 0 where met) changes per unit of the limit while the
+#: optimum does not move, i.e. where the constraint is not active: used to predict where it starts binding.
+_MARGIN_PER_LIMIT = {"max_nacelle_diameter_m": 1.0, "wing_height_m": 1.0, "min_ground_clearance_m": -1.0,
+                     "max_Tt41_K": 1.0, "max_Tt3_K": 1.0}
+
+#: Extra optimisations spent, at most, on each change of the active set between neighbouring values.
+REFINE_SOLVES = 4
+
+
+def _met_margin(kkt, constraint):
+    """Margin of a constraint at the current point, >= 0 where it is met (units of the constraint)."""
+    c = kkt["constraints"][constraint]
+    return c["limit"] - c["value"] if c["kind"] == "upper" else c["value"] - c["limit"]
+
+
+class _TradeSolver:
+    """Solves the best cycle at one value of the swept limit, warm-started from a given design."""
+
+    def __init__(self, scenario, limit, reports):
+        self.scenario, self.limit, self.reports = scenario, limit, reports
+        self.prob, self.settings = None, None
+
+    def solve(self, value, sc, start):
+        """Optimum at ``value`` (``sc`` is the scenario at it) from ``start`` {design variable: value} or None."""
+        limit = self.limit
+        _, var, units, _, _, _, constraint = TRADE_LIMITS[limit]
+        objective = self.scenario["optimizer"]["objective"]
+        if self.prob is None or var is None:
+            self.prob, self.settings = build_best_cycle_problem(sc, reports=self.reports)
+        else:
+            self.prob.set_val(var, value, units=units)
+            self.settings = replace(self.settings, scenario=sc)
+        prob, settings = self.prob, self.settings
+        if start is not None:
+            for name, val in start.items():
+                prob.set_val(name, val, units="K" if name == "Tt4" else None)
+        success = bool(prob.run_driver().success)
+        result = prob.driver.optimizer_result
+        kkt = kkt_analysis(prob, settings)
+        sens = limit_sensitivity(prob, settings, kkt, limit) if success else float("nan")
+        degenerate = active_set_degenerate(prob, settings, kkt)
+        design = {name: float(np.squeeze(prob.get_val(name, units="K" if name == "Tt4" else None)))
+                  for name in ("BPR", "FPR", "OPR", "Tt4")}
+        active_cons = [n for n, c in kkt["constraints"].items() if c["active"]]
+        active_bounds = [f"{n} ({b['active']} bound)" for n, b in kkt["bounds"].items() if b["active"]]
+        return {
+            "value": float(value),
+            "success": success,
+            "message": str(result.message),
+            "iterations": int(result.nit),
+            "objective": kkt["objective"]["value"],
+            "design": design,
+            "start": {name: design[name] for name in settings.design_vars},
+            "outputs": {n: float(np.squeeze(prob.get_val(n, units=u))) for n, u in REPORTED_OUTPUTS.items()},
+            "active": active_cons + active_bounds,
+            "multipliers": {n: kkt["constraints"][n]["multiplier"] for n in active_cons},
+            "shadow_prices": {n: kkt["constraints"][n]["shadow_price"] for n in active_cons},
+            "bound_multipliers": {n: b["multiplier"] for n, b in kkt["bounds"].items() if b["active"]},
+            "projected_gradient": kkt["projected_gradient"],
+            "degenerate": degenerate,
+            "d_objective_d_limit": sens,
+            "sentence": _sentence(limit, objective, sens, value, success, degenerate),
+            "refined": False,
+            "swept_margin": _met_margin(kkt, constraint),
+        }
+
+
+def _predicted_switch(limit, a, b):
+    """Limit value where the swept constraint starts binding, predicted from the side where it does not.
+
+    Between two optima, one with the swept constraint active and one without, the inactive optimum does
+    not move with the limit, so its margin changes by ``_MARGIN_PER_LIMIT`` per unit of the limit: the
+    constraint binds where that margin reaches zero. None when the constraint is active at both or neither.
+    """
+    constraint = TRADE_LIMITS[limit][6]
+    on_a, on_b = constraint in a["active"], constraint in b["active"]
+    if on_a == on_b:
+        return None
+    off = b if on_a else a
+    return off["value"] - off["swept_margin"] / _MARGIN_PER_LIMIT[limit]
+
+
+def _same_optimum(p, q, rtol=1e-8):
+    """Return True when two optima have the same objective (relative tolerance ``rtol``).
+
+    Used where ``q``'s optimum also meets every limit at ``p``: ``p`` can then only be worse or equal.
+    """
+    return abs(p["objective"] - q["objective"]) <= rtol * abs(q["objective"])
+
+
+def _refine_switch(solver, scenario, limit, a, b, solves, tol):
+    """Optimise between ``a`` and ``b`` (optima with different active sets) to locate the change.
+
+    Each extra optimum is placed where ``_predicted_switch`` puts the swept constraint's switch when that
+    lies inside the bracket (at least ``tol`` from its ends), else at the bracket's middle; the bracket
+    then shrinks to the half whose ends still differ. Returns the new points (``refined`` True) and the
+    final bracket's estimate of the switching value.
+    """
+    constraint = TRADE_LIMITS[limit][6]
+    new = []
+    for _ in range(solves):
+        lo, hi = sorted((a["value"], b["value"]))
+        if hi - lo <= tol:
+            break
+        guess = _predicted_switch(limit, a, b)
+        predicted = guess is not None and lo + tol <= guess <= hi - tol
+        if not predicted:
+            if guess is not None and min(abs(guess - lo), abs(guess - hi)) < tol:
+                break  # an end of the bracket already lies on the predicted switch
+            guess = 0.5 * (lo + hi)
+        guess = round(float(guess), max(0, int(-np.floor(np.log10(0.01 * tol)))))
+        near = a if abs(a["value"] - guess) <= abs(b["value"] - guess) else b
+        point = solver.solve(guess, _scenario_at(scenario, limit, guess), near["start"] if near["success"] else None)
+        point["refined"] = True
+        new.append(point)
+        if not point["success"]:
+            break
+        off = b if constraint in a["active"] else a
+        if predicted and constraint in point["active"] and _same_optimum(point, off):
+            # the optimum where the constraint does not bind just meets it here: this is the switch
+            a, b = (point, off) if point["value"] <= off["value"] else (off, point)
+            break
+        if sorted(point["active"]) != sorted(a["active"]):
+            b = point
+        else:
+            a = point
+    estimate = _predicted_switch(limit, a, b)
+    lo, hi = sorted((a["value"], b["value"]))
+    if estimate is None or not lo - tol <= estimate <= hi + tol:
+        estimate = 0.5 * (lo + hi)
+    return new, {"low": lo, "high": hi, "value": float(estimate),
+                 "active_low": list((a if a["value"] == lo else b)["active"]),
+                 "active_high": list((b if b["value"] == hi else a)["active"])}
+
+
+def run_trade_curve(scenario=None, limit=None, values=None, progress=None, reports=False, refine=REFINE_SOLVES,
+                    refine_tol=None):
     """Best installed cycle along a sweep of one limit, warm-started, with shadow prices at every optimum.
 
     Each point re-solves ``build_best_cycle_problem`` starting from the previous optimum's design
@@ -132,6 +268,10 @@ def run_trade_curve(scenario=None, limit=None, values=None, progress=None, repor
     ``max_Tt3_K``) needs a problem rebuilt from a scenario copy, then set to the previous optimum.
     At every optimum ``kkt_analysis`` gives the multipliers and shadow prices of the active constraints,
     and ``limit_sensitivity`` the change of the optimum objective per unit of the swept limit.
+
+    Where two neighbouring values (in sorted order) have different active sets, the optimum objective
+    has a kink between them (a limit starts or stops binding): up to ``refine`` extra optimisations
+    locate it (``_refine_switch``), each marked ``refined`` in the result.
 
     Parameters
     ----------
@@ -143,20 +283,32 @@ def run_trade_curve(scenario=None, limit=None, values=None, progress=None, repor
         Values of the limit, in the key's units, solved in the given order; None takes
         ``scenario['trade']['values']``.
     progress : callable or None
-        ``progress(done, total, message)`` called after every point.
+        ``progress(done, total, message)`` called after every point (the total grows by the refinement).
+    reports : bool
+        OpenMDAO reports of the problems built.
+    refine : int
+        Extra optimisations at most per change of the active set; 0 solves the given values only.
+    refine_tol : float or None
+        Refinement stops when the bracket of a change is this narrow (limit units); None takes a tenth of
+        the sentence's step (1 mm, 0.1 K).
 
     Returns
     -------
     dict
         ``limit``, ``limit_description``, ``limit_units``, ``values`` (array), ``objective_name``,
         ``objective_units``, ``scenario``, arrays over the points (``success``, ``objective``,
-        ``BPR``, ``FPR``, ``OPR``, ``Tt4``, ``d_objective_d_limit``) and ``points``: per point a dict
-        with ``value``, ``success``, ``message``, ``iterations``, ``objective``, ``design`` {design
+        ``BPR``, ``FPR``, ``OPR``, ``Tt4``, ``d_objective_d_limit``, ``refined``) and ``points``: per point
+        a dict with ``value``, ``success``, ``message``, ``iterations``, ``objective``, ``design`` {design
         variable: value}, ``outputs`` (``REPORTED_OUTPUTS``), ``active`` (names of the active
         constraints and bounds), ``multipliers`` and ``shadow_prices`` {active constraint: value},
         ``bound_multipliers``, ``projected_gradient``, ``degenerate`` (``active_set_degenerate``),
-        ``d_objective_d_limit`` (objective units per limit unit; NaN where the optimizer failed) and
-        ``sentence`` ("one more cm of allowed nacelle diameter saves X kg of fuel").
+        ``d_objective_d_limit`` (objective units per limit unit; NaN where the optimizer failed),
+        ``sentence`` ("one more cm of allowed nacelle diameter saves X kg of fuel"), ``refined`` (added
+        by the refinement) and ``swept_margin`` (margin of the swept constraint, >= 0 where met).
+        Without added points the order is the given one; with them, the points are sorted along the
+        sweep (descending when the given values are). ``active_set_changes``: per change found, a dict
+        with the final bracket ``low``, ``high``, the active sets at its ends and ``value``, the
+        estimated limit value of the change (the kink of the curve).
     """
     scenario = scenario or load_scenario()
     trade = scenario.get("trade", {})
@@ -166,66 +318,59 @@ def run_trade_curve(scenario=None, limit=None, values=None, progress=None, repor
     values = np.asarray(values if values is not None else trade["values"], dtype=float)
     if values.ndim != 1 or values.size < 1:
         raise ScenarioError("trade: values must be a list of numbers.")
-    section, var, units, _, _, _, _ = TRADE_LIMITS[limit]
+    section, var, units, step, _, _, _ = TRADE_LIMITS[limit]
     scenarios = [_scenario_at(scenario, limit, v) for v in values]  # every value is checked before solving
     objective = scenario["optimizer"]["objective"]
     obj_name, obj_units, _ = OBJECTIVES[objective]
+    tol = 0.1 * step if refine_tol is None else float(refine_tol)
 
-    prob, previous, points = None, None, []
-    for k, (value, sc) in enumerate(zip(values, scenarios)):
-        if prob is None or var is None:
-            prob, settings = build_best_cycle_problem(sc, reports=reports)
-        else:
-            prob.set_val(var, value, units=units)
-            settings = replace(settings, scenario=sc)
-        if previous is not None:
-            for name, val in previous.items():
-                prob.set_val(name, val, units="K" if name == "Tt4" else None)
-        success = bool(prob.run_driver().success)
-        result = prob.driver.optimizer_result
-        kkt = kkt_analysis(prob, settings)
-        sens = limit_sensitivity(prob, settings, kkt, limit) if success else float("nan")
-        degenerate = active_set_degenerate(prob, settings, kkt)
-        design = {name: float(np.squeeze(prob.get_val(name, units="K" if name == "Tt4" else None)))
-                  for name in ("BPR", "FPR", "OPR", "Tt4")}
-        if success:
-            previous = {name: design[name] for name in settings.design_vars}
-        active_cons = [n for n, c in kkt["constraints"].items() if c["active"]]
-        active_bounds = [f"{n} ({b['active']} bound)" for n, b in kkt["bounds"].items() if b["active"]]
-        points.append({
-            "value": float(value),
-            "success": success,
-            "message": str(result.message),
-            "iterations": int(result.nit),
-            "objective": kkt["objective"]["value"],
-            "design": design,
-            "outputs": {n: float(np.squeeze(prob.get_val(n, units=u))) for n, u in REPORTED_OUTPUTS.items()},
-            "active": active_cons + active_bounds,
-            "multipliers": {n: kkt["constraints"][n]["multiplier"] for n in active_cons},
-            "shadow_prices": {n: kkt["constraints"][n]["shadow_price"] for n in active_cons},
-            "bound_multipliers": {n: b["multiplier"] for n, b in kkt["bounds"].items() if b["active"]},
-            "projected_gradient": kkt["projected_gradient"],
-            "degenerate": degenerate,
-            "d_objective_d_limit": sens,
-            "sentence": _sentence(limit, objective, sens, value, success, degenerate),
-        })
+    solver = _TradeSolver(scenario, limit, reports)
+    previous, points = None, []
+    total = [values.size]
+
+    def report(point):
         if progress is not None:
-            progress(k + 1, values.size, f"{limit} = {value:g} {units}: {obj_name} "
-                                         f"{points[-1]['objective']:.6g} {obj_units}")
+            progress(len(points), total[0], f"{limit} = {point['value']:g} {units}: {obj_name} "
+                                            f"{point['objective']:.6g} {obj_units}")
+
+    for value, sc in zip(values, scenarios):
+        point = solver.solve(value, sc, previous)
+        if point["success"]:
+            previous = point["start"]
+        points.append(point)
+        report(point)
+
+    changes = []
+    if refine > 0:
+        ordered = sorted(points, key=lambda p: p["value"])
+        for a, b in zip(ordered[:-1], ordered[1:]):
+            if a["success"] and b["success"] and sorted(a["active"]) != sorted(b["active"]):
+                total[0] += refine
+                new, change = _refine_switch(solver, scenario, limit, a, b, refine, tol)
+                total[0] -= refine - len(new)
+                for point in new:
+                    points.append(point)
+                    report(point)
+                changes.append(change)
+    if any(p["refined"] for p in points):
+        descending = values.size > 1 and np.all(np.diff(values) < 0.0)
+        points.sort(key=lambda p: -p["value"] if descending else p["value"])
 
     out = {
         "limit": limit,
         "limit_description": SCHEMA[section][limit]["desc"],
         "limit_units": units,
-        "values": values,
+        "values": np.array([p["value"] for p in points]),
         "objective_name": objective,
         "objective_units": obj_units,
         "scenario": scenario["aircraft"].get("name", "scenario"),
         "points": points,
+        "active_set_changes": changes,
     }
     out["success"] = np.array([p["success"] for p in points])
     out["objective"] = np.array([p["objective"] for p in points])
     for name in ("BPR", "FPR", "OPR", "Tt4"):
         out[name] = np.array([p["design"][name] for p in points])
     out["d_objective_d_limit"] = np.array([p["d_objective_d_limit"] for p in points])
+    out["refined"] = np.array([p["refined"] for p in points])
     return out

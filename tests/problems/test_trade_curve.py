@@ -81,6 +81,13 @@ def test_sentence_and_progress(wing_trade):
     assert result["limit_units"] == "m" and result["objective_units"] == "kg"
 
 
+def test_no_refinement_without_a_change_of_the_active_set(wing_trade):
+    """With the same active set at every value, no optimum is added and the given order is kept."""
+    result, _ = wing_trade
+    np.testing.assert_array_equal(result["values"], WING_HEIGHTS)
+    assert not np.any(result["refined"]) and result["active_set_changes"] == []
+
+
 def test_constraint_bound_limit_t3(scenario):
     """A T3 limit below the demo optimum's T3 binds; its shadow price matches the re-solved optimum."""
     result = run_trade_curve(scenario, "max_Tt3_K", T3_LIMITS)
