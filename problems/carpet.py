@@ -221,13 +221,14 @@ def _optimise_fpr(scenario, objective, bpr, opr, fpr_start, progress_step):
     success = bool(result.success)
     fpr = np.clip(np.asarray(result.x, dtype=float) * (upper - lower) + lower, lower, upper)
     failed_evaluations = prob.driver.failed_evaluations
+    model_evaluations = prob.driver.model_evaluations
     prob.set_val("FPR", fpr)
     try:
         prob.run_model()
     except om.AnalysisError:  # the returned point was not the last good one: the caller re-evaluates
         prob = None
     info = {"success": success, "message": str(result.message), "iterations": int(result.nit),
-            "model_evaluations": prob.driver.model_evaluations if prob else int(result.nfev), "failed_evaluations": failed_evaluations,
+            "model_evaluations": model_evaluations, "failed_evaluations": failed_evaluations,
             "start_FPR": x}
     return prob, fpr, info
 
