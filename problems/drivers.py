@@ -5,6 +5,7 @@ import time
 import numpy as np
 import openmdao.api as om
 from openmdao.core.driver import Driver
+from openmdao.recorders.recording_iteration_stack import Recording
 from scipy.optimize import minimize
 
 #: Added to the (scaled) objective at a design the model cannot evaluate, so the line search backs off.
@@ -134,7 +135,9 @@ class BackOffSLSQPDriver(Driver):
             self._cache_key, self._cache = key, (f_good + FAILED_EVALUATION_PENALTY, g_good, False)
             self._notify(None, False)
             return self._cache
-        self.record_iteration()
+        # record the completed evaluation under its own iteration coordinate (the context records on exit)
+        with Recording(self._get_name(), self.iter_count, self):
+            pass
         f = float(self._scaled(self._obj_meta, self._get(self._obj_name, self._obj_meta))[0])
         g = np.concatenate([self._con_margins(n) for n in self._con_names] or [np.zeros(0)])
         self._cache_key, self._cache = key, (f, g, True)

@@ -59,6 +59,10 @@ def test_back_off_driver_survives_failed_evaluations_and_lists_them(tmp_path):
     cases = om.CaseReader(str(rec)).get_cases("driver", recurse=False)
     assert len(cases) == driver.model_evaluations - driver.failed_evaluations
     assert all(np.real(c.get_design_vars()["x"][0]) <= 2.5 for c in cases)
+    # each evaluation is its own case: distinct names, and the recorded designs follow the optimizer's path
+    assert len({c.name for c in cases}) == len(cases)
+    xs = [float(np.real(c.get_design_vars()["x"][0])) for c in cases]
+    assert xs[0] == 0.0 and xs[-1] > 2.0
     assert all("outside the valid range" in f["message"] for f in driver.failures)
     assert all(f["design"]["x"][0] > 2.5 for f in driver.failures)
 
