@@ -6,7 +6,6 @@ without the interpreter start-up), so the catalogue stays fast.
 """
 
 import hashlib
-import math
 import pathlib
 
 import pytest
@@ -169,4 +168,4 @@ def test_api_validate_names_key_value_and_range(section, key, value):
 def test_the_catalogue_is_large_enough():
     """The issue asks for at least 60 bad inputs; count what this module runs."""
     count = len(NUMERIC_KEYS) + len(OTHER_FILES) + 3 + len(ARGUMENTS) + 4
-    assert count >= 60 and not math.isnan(count)
+    assert count >= 60
