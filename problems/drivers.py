@@ -3,6 +3,7 @@
 import time
 
 import numpy as np
+import openmdao
 import openmdao.api as om
 from openmdao.core.driver import Driver
 from openmdao.recorders.recording_iteration_stack import Recording
@@ -10,6 +11,10 @@ from scipy.optimize import minimize
 
 #: Added to the (scaled) objective at a design the model cannot evaluate, so the line search backs off.
 FAILED_EVALUATION_PENALTY = 1.0e3
+
+#: Before OpenMDAO 3.44 the ``lower``/``upper``/``equals`` of ``get_design_vars``/``get_constraints`` come
+#: already driver-scaled; from 3.44 on they are in the declared (physical) units. Checked on 3.41 and 3.45.
+_BOUNDS_ALREADY_SCALED = tuple(int(p) for p in openmdao.__version__.split(".")[:2]) < (3, 44)
 
 
 class BackOffSLSQPDriver(Driver):
@@ -97,6 +102,10 @@ class BackOffSLSQPDriver(Driver):
         scaler, adder = self._scaling(meta)
         return (np.ravel(value) + adder) * scaler
 
+    def _scaled_bound(self, meta, value):
+        """Return a bound from the metadata in driver scaling (already scaled before OpenMDAO 3.44)."""
+        return np.ravel(value).astype(float) if _BOUNDS_ALREADY_SCALED else self._scaled(meta, value)
+
     def _get(self, name, meta):
         return np.ravel(self._problem().get_val(name, units=meta.get("units"))).astype(float)
 
@@ -153,12 +162,12 @@ class BackOffSLSQPDriver(Driver):
         """[(sign, scaled bound)] of one constraint: SLSQP's g = sign * (scaled value - scaled bound)."""
         meta = self._con_meta[name]
         if meta.get("equals") is not None:
-            return [(1.0, self._scaled(meta, meta["equals"]))]
+            return [(1.0, self._scaled_bound(meta, meta["equals"]))]
         sides = []
         if meta.get("lower") is not None and np.all(np.asarray(meta["lower"]) > -1e29):
-            sides.append((1.0, self._scaled(meta, meta["lower"])))
+            sides.append((1.0, self._scaled_bound(meta, meta["lower"])))
         if meta.get("upper") is not None and np.all(np.asarray(meta["upper"]) < 1e29):
-            sides.append((-1.0, self._scaled(meta, meta["upper"])))
+            sides.append((-1.0, self._scaled_bound(meta, meta["upper"])))
         return sides
 
     def _con_margins(self, name):
@@ -209,7 +218,7 @@ class BackOffSLSQPDriver(Driver):
         size = int(meta["size"])
         if value is None or np.max(np.abs(value)) >= 1e29:
             return np.full(size, -np.inf if which == "lower" else np.inf)
-        return np.broadcast_to(self._scaled(meta, value), (size,))
+        return np.broadcast_to(self._scaled_bound(meta, value), (size,))
 
     # -- the run --------------------------------------------------------------------------------------
 
