@@ -22,6 +22,8 @@ GEOMETRY_CONSTRAINTS = {
     "diameter_margin": ("diameter_margin", "lower", "m", 0.1),
 }
 _LIMIT_SCALING = {"Tt41": ("K", 100.0), "Tt3": ("K", 100.0), "W3_corrected": ("kg/s", 1.0)}
+#: Optional constraint (``limit_takeoff_mass``): maximum take-off mass minus take-off mass >= 0, scaled by 1 t.
+MTOW_CONSTRAINT, _MTOW_REF = "mtow_margin", 1000.0
 
 
 def gas_for(scenario):
@@ -114,7 +116,7 @@ def build_evaluation_problem(scenario=None, num_nodes=1, design=None, reports=OP
 
 
 def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorder_path=None,
-                             reports=OPENMDAO_DEFAULT, force_alloc_complex=False):
+                             reports=OPENMDAO_DEFAULT, force_alloc_complex=False, limit_takeoff_mass=None):
     """Ready best-installed-cycle optimisation problem (set up, scenario applied, not run), and its settings.
 
     Minimises ``mission_fuel`` (or ``installed_TSFC``) over the design variables the scenario marks
@@ -137,6 +139,10 @@ def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorde
         Passed to ``om.Problem``; left out, OpenMDAO's default applies (the CLI passes False).
     force_alloc_complex : bool
         Allocate complex vectors (only for complex-step checks).
+    limit_takeoff_mass : bool or None
+        Add the constraint take-off mass <= maximum take-off mass (``mtow_margin`` >= 0). None takes the
+        scenario's ``limits.enforce_max_takeoff_mass``, False when the scenario has no such key; without it
+        the take-off mass is only reported (and flagged in the summary when above the maximum).
 
     Returns
     -------
@@ -175,6 +181,11 @@ def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorde
         bound = {"upper": limit} if kind == "upper" else {"lower": limit}
         model.add_constraint(var, units=cunits, ref=cref, **bound)
         limits[var] = (kind, limit, cunits)
+    if limit_takeoff_mass is None:
+        limit_takeoff_mass = bool(scenario["limits"].get("enforce_max_takeoff_mass", False))
+    if limit_takeoff_mass:
+        model.add_constraint(MTOW_CONSTRAINT, lower=0.0, units="kg", ref=_MTOW_REF)
+        limits[MTOW_CONSTRAINT] = ("lower", 0.0, "kg")
     if recorder_path:
         recorder = om.SqliteRecorder(str(recorder_path))
         prob.driver.add_recorder(recorder)

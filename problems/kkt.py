@@ -27,8 +27,10 @@ def kkt_analysis(prob, settings, active_tol=ACTIVE_TOL):
     Returns
     -------
     dict
-        ``objective`` (name, units), ``constraints`` {name: {value, limit, kind, units, active, multiplier,
-        shadow_price}} with shadow_price = d(objective)/d(limit) in objective units per limit unit,
+        ``objective`` (name, units), ``constraints`` {name: {value, limit, kind, units, active, violated,
+        multiplier, shadow_price}} with shadow_price = d(objective)/d(limit) in objective units per limit unit
+        (``violated``: beyond the limit by more than ``active_tol`` times the constraint's scaling reference;
+        such a point is no optimum, and its multipliers and shadow prices mean nothing),
         ``bounds`` {design var: {value, lower, upper, active, multiplier}}, ``projected_gradient`` (norm of
         the Lagrangian gradient, each component times its design variable's bound range, relative
         to |f|) and ``complementarity`` (largest
@@ -57,7 +59,7 @@ def kkt_analysis(prob, settings, active_tol=ACTIVE_TOL):
         ref = _constraint_ref(prob, name)
         active = c > -active_tol * ref
         info[name] = {"value": value, "limit": limit, "kind": kind, "units": units, "active": bool(active),
-                      "c": c, "multiplier": 0.0, "shadow_price": 0.0}
+                      "violated": bool(c > active_tol * ref), "c": c, "multiplier": 0.0, "shadow_price": 0.0}
         if active:
             rows.append(sign * grad)
             names.append(("con", name))

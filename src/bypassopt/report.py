@@ -93,7 +93,14 @@ CONSTRAINT_WORDS = {
     "Tt41": ("T41 limit", 1.0, "1 K", "raising the T41 limit by 1 K"),
     "Tt3": ("T3 limit", 1.0, "1 K", "raising the T3 limit by 1 K"),
     "W3_corrected": ("minimum core size", 0.1, "0.1 kg/s", "lowering the minimum core size by 0.1 kg/s"),
+    "mtow_margin": ("maximum take-off mass", 100.0, "100 kg", "raising the maximum take-off mass by 100 kg"),
 }
+
+#: Plausibility thresholds of a result (common practice, no source): a design-mission fuel above this fraction
+#: of the take-off mass, and a cruise lift-to-drag ratio below this, belong to no airliner (airliners carry
+#: well under half their take-off mass as fuel and cruise at L/D of about 15 to 20).
+MAX_FUEL_FRACTION = 0.5
+MIN_AIRLINER_LIFT_TO_DRAG = 8.0
 
 #: Steps for the shadow prices of design-variable bounds.
 BOUND_STEPS = {"BPR": (0.1, "0.1"), "FPR": (0.01, "0.01"), "OPR": (1.0, "1"), "Tt4": (1.0, "1 K")}
@@ -145,7 +152,60 @@ def design_summary(prob, node=0, scenario=None):
     }
     if scenario:
         summary["limits"] = design_limits(prob, scenario, node)
+        summary["warnings"] = result_warnings(prob, scenario, node)
     return summary
+
+
+def result_warnings(prob, scenario, node=0):
+    """Flag a result no airliner could have: sentences for the summary's ``warnings`` list.
+
+    Flagged (thresholds ``MAX_FUEL_FRACTION`` and ``MIN_AIRLINER_LIFT_TO_DRAG``, common practice):
+    take-off mass above the maximum take-off mass; design-mission fuel more than the maximum take-off mass
+    minus the zero-fuel mass (more than the aircraft can lift even with no reserve); mission fuel above half
+    the take-off mass; a cruise lift-to-drag ratio below 8. None of these stops the optimisation (unless the
+    take-off mass is made a constraint): they say that the numbers describe no real aircraft.
+
+    Parameters
+    ----------
+    prob : om.Problem
+        A run problem with the aircraft mission (``mission_fuel``, ``takeoff_mass``, ``zero_fuel_mass``).
+    scenario : dict
+        The validated scenario it was built from.
+    node : int
+        Which design of a vectorized problem.
+
+    Returns
+    -------
+    list of str
+        One sentence per finding (empty when none).
+    """
+    out = []
+    ac = scenario.get("aircraft", {})
+    ld = ac.get("lift_to_drag")
+    if ld is not None and ld < MIN_AIRLINER_LIFT_TO_DRAG:
+        out.append(f"aircraft.lift_to_drag = {format_number(ld)} is below {format_number(MIN_AIRLINER_LIFT_TO_DRAG)}: "
+                   "no jet airliner cruises at such a lift-to-drag ratio (about 15 to 20 is common practice); "
+                   "the fuel and masses below describe no real aircraft.")
+    if not all(_has(prob, n) for n in ("mission_fuel", "takeoff_mass", "mtow_margin")):
+        return out
+    fuel = _value(prob, "mission_fuel", "kg", node)
+    tom = _value(prob, "takeoff_mass", "kg", node)
+    mtom = tom + _value(prob, "mtow_margin", "kg", node)
+    if tom > mtom:
+        out.append(f"The take-off mass {format_number(tom)} kg is above the maximum take-off mass "
+                   f"{format_number(mtom)} kg (aircraft.max_takeoff_mass_kg) by {format_number(tom - mtom)} kg: "
+                   "the aircraft cannot fly this mission as specified.")
+    if _has(prob, "zero_fuel_mass"):
+        zfm = _value(prob, "zero_fuel_mass", "kg", node)
+        if fuel > mtom - zfm:
+            out.append(f"The mission fuel {format_number(fuel)} kg is more than the maximum take-off mass minus "
+                       f"the zero-fuel mass ({format_number(mtom - zfm)} kg): more fuel than the aircraft could "
+                       "lift even without reserves.")
+    if tom > 0.0 and fuel / tom > MAX_FUEL_FRACTION:
+        out.append(f"The mission fuel is {100.0 * fuel / tom:.0f} % of the take-off mass (above "
+                   f"{100.0 * MAX_FUEL_FRACTION:.0f} %, which no airliner carries; common practice): check "
+                   "aircraft.lift_to_drag, design_range_m and the masses.")
+    return out
 
 
 def design_limits(prob, scenario, node=0):
@@ -256,9 +316,17 @@ def optimum_summary(prob, settings, driver_result):
     -------
     dict
         The design summary with ``optimizer`` (success, message, exit status, counts), ``objective``,
-        ``constraints`` (value, limit, margin, active, multiplier, shadow price with units, and a
-        plain-words sentence for each active one), ``bounds`` of the design variables and ``kkt``
-        (projected gradient, complementarity, multiplier signs).
+        ``constraints`` (value, limit, margin, status 'active'/'violated'/'inactive', multiplier, shadow price
+        with units, and a plain-words sentence for each active one), ``bounds`` of the design variables,
+        ``violated_limits``, ``kkt`` (projected gradient, complementarity, multiplier signs) and ``warnings``
+        (``result_warnings``).
+
+    Notes
+    -----
+    A limit missed by more than the tolerance of ``kkt_analysis`` is 'violated', not 'active', and has no
+    multiplier or shadow price. When the optimizer did not succeed, the point is no optimum: no multiplier,
+    shadow price or statement is given for any limit or bound (they would be numbers without meaning);
+    ``violated_limits`` names the limits the last design misses.
     """
     from bypassopt.problems.kkt import kkt_analysis
 
@@ -281,16 +349,21 @@ def optimum_summary(prob, settings, driver_result):
     objective = kkt["objective"]["name"]
     obj_units = kkt["objective"]["units"]
     summary["objective"] = kkt["objective"]
+    success = summary["optimizer"]["success"]
     constraints, statements = {}, []
     for name, c in kkt["constraints"].items():
         label, step, step_words, phrase = CONSTRAINT_WORDS.get(name, (name, 1.0, "1 unit", f"relaxing {name}"))
         margin = c["limit"] - c["value"] if c["kind"] == "upper" else c["value"] - c["limit"]
+        violated = bool(c.get("violated", False))
+        priced = success and c["active"] and not violated
         entry = {"description": label, "kind": c["kind"], "value": c["value"], "limit": c["limit"],
-                 "units": c["units"], "margin": margin, "active": c["active"], "multiplier": c["multiplier"],
-                 "shadow_price": c["shadow_price"],
+                 "units": c["units"], "margin": margin, "active": c["active"] and not violated,
+                 "violated": violated, "status": _constraint_status(c["active"], violated),
+                 "multiplier": c["multiplier"] if success and not violated else None,
+                 "shadow_price": c["shadow_price"] if success and not violated else None,
                  "shadow_price_units": f"{obj_units} per {c['units'] or 'unit'}",
                  "statement": None}
-        if c["active"]:
+        if priced:
             entry["statement"] = f"{phrase} {_saving_words(c['multiplier'] * step, objective, obj_units)}."
             statements.append(entry["statement"])
         constraints[name] = entry
@@ -298,7 +371,9 @@ def optimum_summary(prob, settings, driver_result):
     for name, b in kkt["bounds"].items():
         entry = dict(b)
         entry["statement"] = None
-        if b["active"]:
+        if not success:
+            entry["multiplier"] = None
+        elif b["active"]:
             step, step_words = BOUND_STEPS.get(name, (1.0, "1"))
             move = "raising the upper" if b["active"] == "upper" else "lowering the lower"
             entry["statement"] = (f"{move} bound of {name} by {step_words} "
@@ -311,9 +386,15 @@ def optimum_summary(prob, settings, driver_result):
         for var in ("BPR", "FPR", "OPR", "Tt4") if var not in bounds and var in summary["quantities"]}
     summary["bounds"] = bounds
     summary["shadow_price_statements"] = statements
+    summary["violated_limits"] = [name for name, c in constraints.items() if c["violated"]]
     summary["kkt"] = {"projected_gradient": kkt["projected_gradient"], "complementarity": kkt["complementarity"],
                       "multipliers_nonnegative": kkt["dual_feasible"], "gradient_norm": kkt["gradient_norm"]}
     return summary
+
+
+def _constraint_status(active, violated):
+    """'violated' (beyond the limit by more than the tolerance), 'active' (on it) or 'inactive'."""
+    return "violated" if violated else ("active" if active else "inactive")
 
 
 def summary_rows(summary):
@@ -515,10 +596,12 @@ def summary_blocks(summary):
         rows = []
         for name, c in summary["constraints"].items():
             words, value, sense, limit = _shown_limit(summary, name, c)
+            priced = c["active"] and c.get("shadow_price") is not None
+            status = "VIOLATED" if c.get("violated") else ("active" if c["active"] else "")
             rows.append((words, format_number(value), f"{sense} {format_number(limit)}",
-                         format_number(c["margin"]), c["units"] or "", "active" if c["active"] else "",
-                         format_number(c["shadow_price"], 4) if c["active"] else "", c["shadow_price_units"]
-                         if c["active"] else ""))
+                         format_number(c["margin"]), c["units"] or "", status,
+                         format_number(c["shadow_price"], 4) if priced else "", c["shadow_price_units"]
+                         if priced else ""))
         out.append(TextTable(("limit", "value", "limit", "margin", "units", "", "shadow price", "per"), rows,
                              "lrrrllrl"))
         bound_rows = [(name, format_number(b["value"]), format_number(b["lower"]), format_number(b["upper"]),
@@ -532,12 +615,22 @@ def summary_blocks(summary):
             out.append("  held fixed by the scenario: " + ", ".join(
                 f"{n} = {format_number(v['value'])}{' ' + v['units'] if v['units'] else ''}" for n, v in fixed.items()))
         out.append("")
-        out.append("What the active limits cost (first-order estimates from the Lagrange multipliers)")
-        if summary["shadow_price_statements"]:
-            for s in summary["shadow_price_statements"]:
-                out.append(_wrap_bullet(s[0].upper() + s[1:]))
+        violated = [c for c in summary["constraints"].values() if c.get("violated")]
+        if violated:
+            out.append(_wrap("Violated limits: " + "; ".join(_violation_words(c) for c in violated) + "."))
+            out.append("")
+        if not opt["success"]:
+            out.append("What the active limits cost: not given. The optimizer did not converge, so this design is "
+                       "no optimum and its Lagrange multipliers are no shadow prices.")
         else:
-            out.append("  - no limit or bound is active: the optimum is unconstrained.")
+            out.append("What the active limits cost (first-order estimates from the Lagrange multipliers)")
+            if summary["shadow_price_statements"]:
+                for s in summary["shadow_price_statements"]:
+                    out.append(_wrap_bullet(s[0].upper() + s[1:]))
+            elif violated:
+                out.append("  - none: a violated limit has no shadow price.")
+            else:
+                out.append("  - no limit or bound is active: the optimum is unconstrained.")
         k = summary["kkt"]
         out.append("")
         out.append(f"Optimality check: projected gradient {format_number(k['projected_gradient'], 2)}, "
@@ -546,7 +639,12 @@ def summary_blocks(summary):
         out.append("")
 
     mtow = summary["quantities"].get("mtow_margin")
-    if mtow and mtow["value"] < 0.0:
+    if summary.get("warnings"):
+        out.append("Warnings")
+        for w in summary["warnings"]:
+            out.append(_wrap_bullet(w))
+        out.append("")
+    elif "warnings" not in summary and mtow and mtow["value"] < 0.0:
         out.append(_wrap(f"Note: the take-off mass is {format_number(-mtow['value'])} kg above the maximum take-off "
                          "mass; this is reported, not a limit of the optimisation."))
         out.append("")
@@ -567,6 +665,7 @@ _SHOWN = {
     "Tt41": ("HPT rotor inlet temperature T41", None, None),
     "Tt3": ("HPC exit temperature T3", None, None),
     "W3_corrected": ("core size (HPC exit corrected flow)", None, None),
+    "mtow_margin": ("take-off mass", "takeoff_mass", "<="),
 }
 
 
@@ -578,6 +677,14 @@ def _shown_limit(summary, name, c):
         return words, c["value"], "<=" if c["kind"] == "upper" else ">=", c["limit"]
     limit = q["value"] - c["margin"] if sense == ">=" else q["value"] + c["margin"]
     return words, q["value"], sense, limit
+
+
+def _violation_words(c):
+    """'nacelle diameter limit: 1.93 against <= 0.5 m' for a violated constraint of a summary."""
+    sense = "<=" if c["kind"] == "upper" else ">="
+    units = f" {c['units']}" if c.get("units") else ""
+    return (f"{c['description']} missed by {format_number(-c['margin'], 4)}{units} (value "
+            f"{format_number(c['value'])}, limit {sense} {format_number(c['limit'])}{units})")
 
 
 def _wrap_bullet(text):

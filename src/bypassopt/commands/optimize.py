@@ -1,7 +1,9 @@
 """``bypassopt optimize``: the best installed cycle, with reports and plots."""
 
-from bypassopt.commands._run import (EXIT_OK, NotConverged, check_driver, optimizer_counts, precheck_design,
-                                     progress_callback, require, require_matplotlib, write_png,
+import sys
+
+from bypassopt.commands._run import (EXIT_OK, NotConverged, UsageError, check_driver, optimizer_counts,
+                                     precheck_design, progress_callback, require, require_matplotlib, write_png,
                                      write_summary_files)
 
 NAME = "optimize"
@@ -26,6 +28,32 @@ def add_parser(sub, common):
     return p
 
 
+def report_findings(run, findings):
+    """Turn feasibility findings into an exit-2 ``UsageError`` (errors) or warning lines; return the warnings.
+
+    Errors (a limit no screened design meets) become one line, before anything is written; warnings go to
+    stderr as ``bypassopt: warning: ...`` (not with --quiet) and are returned for the summary.
+    """
+    errors = [f.message for f in findings if f.severity == "error"]
+    if errors:
+        head = "" if len(errors) == 1 else f"{len(errors)} limits cannot be met: "
+        raise UsageError(head + ". ".join(errors))
+    warnings = [f.message for f in findings if f.severity == "warning"]
+    if not run.args.quiet:
+        for text in warnings:
+            print(f"bypassopt: warning: {text}", file=sys.stderr)
+    return warnings
+
+
+def screen_limits(run, scenario):
+    """Run the feasibility screen (``bypassopt.problems.feasibility``) before optimising; see ``report_findings``."""
+    from bypassopt.problems.feasibility import check_feasibility
+
+    with run.quiet_stdout():
+        findings = check_feasibility(scenario)
+    return report_findings(run, findings)
+
+
 def run(run, scenario):
     """Find the best installed cycle; return (summary, exit code)."""
     from bypassopt.problems.best_cycle import OBJECTIVES as OBJECTIVE_UNITS
@@ -44,6 +72,7 @@ def run(run, scenario):
     objective = args.objective or scenario["optimizer"]["objective"]
     with run.quiet_stdout():
         precheck_design(scenario)
+    screen_warnings = screen_limits(run, scenario)
     run.prepare_out()
     history = run.out_path("history.sqlite")
     progress = run.progress("optimize")
@@ -56,6 +85,7 @@ def run(run, scenario):
         result = prob.run_driver()
         success = driver_succeeded(result)
         summary = optimum_summary(prob, settings, result)
+        summary["warnings"] = screen_warnings + summary.get("warnings", [])
         prob.cleanup()
     # the closing line and the summary give the same counts and time: the driver's
     opt = summary["optimizer"]

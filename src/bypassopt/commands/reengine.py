@@ -3,7 +3,7 @@
 from bypassopt.commands._run import (EXIT_OK, NotConverged, UsageError, check_driver, optimizer_counts,
                                      precheck_design, progress_callback, textwrap_fill, write_csv_file,
                                      write_json_file)
-from bypassopt.commands.optimize import DRIVERS, OBJECTIVES
+from bypassopt.commands.optimize import DRIVERS, OBJECTIVES, screen_limits
 
 NAME = "reengine"
 OUTPUTS = ("reengine.json", "reengine.csv")
@@ -37,6 +37,7 @@ def run(run, scenario):
             evaluate_previous_engine(scenario)
         except ScenarioError as err:
             raise UsageError(str(err)) from err
+    screen_limits(run, scenario)
     run.prepare_out()
     progress = run.progress("reengine: optimising the new engine")
     obj_name, obj_units, _ = OBJECTIVE_UNITS[objective]

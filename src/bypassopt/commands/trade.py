@@ -25,11 +25,23 @@ def run(run, scenario):
     if not run.args.no_plots:
         require_matplotlib("trade.png")
         (plot_trade_curve,) = require("bypassopt.plots", ("plot_trade_curve",), "trade.png (or add --no-plots)")
+    screen_sweep(run, scenario)
     data, rows = run_study(run, scenario, NAME, run_trade_curve, plot_trade_curve, trade_rows, trade_blocks)
     failed = [r for r in rows if r.get("success") is False]
     if failed:
         raise NotConverged(f"the optimizer did not converge at {len(failed)} of {len(rows)} trade points", data)
     return data, EXIT_OK
+
+
+def screen_sweep(run, scenario):
+    """Feasibility screen of the swept limit and the others (exit 2 when one is missed at every value)."""
+    from bypassopt.commands.optimize import report_findings
+    from bypassopt.problems.feasibility import check_sweep
+
+    trade = scenario["trade"]
+    with run.quiet_stdout():
+        findings = check_sweep(scenario, trade["limit"], trade["values"])
+    return report_findings(run, findings)
 
 
 def trade_rows(result):
