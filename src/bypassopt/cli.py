@@ -4,8 +4,14 @@ The commands live in ``bypassopt.commands`` (one module each); this module parse
 scenario, dispatches and turns every outcome into an exit code and at most one error line.
 
 Exit codes: 0 success; 2 bad input (one line on stderr, nothing computed or written); 3 the computation ran but
-did not reach its goal (the optimizer did not converge, or a derivative check is above its tolerance), with the
-files written so far left in place; 1 an unexpected error (one line; ``--debug`` shows the traceback).
+did not reach its goal (the optimizer did not converge, or a derivative check is above its tolerance), with its
+results written; 1 an unexpected error (one line; ``--debug`` shows the traceback); 130 interrupted (SIGINT,
+Ctrl-C) and 143 terminated (SIGTERM): 128 + the signal number, as a shell reports a process the signal killed.
+
+Results are never lost: a run writes into a new folder beside ``--out`` and replaces ``--out`` with it only when
+it finishes with 0 or 3 (the replaced folder is kept as ``<out>.previous``); a run that fails or is interrupted
+leaves ``--out`` as it was (an interrupted run's partial files are kept in ``<out>.interrupted``). A lock
+``<out>.lock`` refuses a second run into the same folder while one is writing (exit 2).
 """
 
 import sys
@@ -15,7 +21,8 @@ import warnings
 from bypassopt import CAUTION
 from bypassopt.commands import COMMANDS, OUTPUTS, build_parser
 from bypassopt.commands._run import (DEFAULT_OUT, EXIT_BAD_INPUT, EXIT_NOT_CONVERGED, EXIT_OK, EXIT_UNEXPECTED,
-                                     NotConverged, ProgressDisplay, Run, UsageError, emit_json, one_line)
+                                     NotConverged, ProgressDisplay, Run, UsageError, emit_json, interrupt_signal,
+                                     one_line, terminate_as_interrupt)
 from bypassopt.commands.carpet import carpet_rows, format_carpet
 from bypassopt.commands.check_derivatives import DERIVATIVE_TOLERANCE, check_derivatives, format_derivative_check
 from bypassopt.commands.scenario import scenario_to_toml
@@ -42,7 +49,17 @@ def main(argv=None):
               file=sys.stderr)
         return EXIT_BAD_INPUT
 
-    run = Run(args, OUTPUTS[args.command])
+    run = Run(args, OUTPUTS[args.command], argv=sys.argv[1:] if argv is None else argv)
+    try:
+        with terminate_as_interrupt():
+            return _run_command(run, args)
+    finally:
+        run.close()  # on every way out: a folder not swapped in is set aside, the lock released
+
+
+def _run_command(run, args):
+    """Run the command: load the scenario, check and lock ``--out``, dispatch, swap the results in; exit code."""
+    not_converged = None
     with warnings.catch_warnings():
         if not args.debug:
             warnings.simplefilter("ignore")
@@ -63,22 +80,27 @@ def main(argv=None):
                 result, code = COMMANDS[args.command](run, scenario)
             except ScenarioError as err:  # options checked inside the commands (objective, driver)
                 raise UsageError(str(err)) from err
+            except NotConverged as err:  # complete results of a computation that missed its goal: kept
+                not_converged, result, code = err, err.result, EXIT_NOT_CONVERGED
+            run.commit(code)
         except UsageError as err:
             run.close_progress()
             print(f"bypassopt: error: {one_line(err)}", file=sys.stderr)
             return EXIT_BAD_INPUT
-        except NotConverged as err:
+        except KeyboardInterrupt as err:
             run.close_progress()
-            if args.json:
-                payload = err.result if isinstance(err.result, dict) else {"caution": CAUTION}
-                emit_json({**payload, "error": one_line(err)}, run.files)
-            print(f"bypassopt: error: {one_line(err)}; the files written so far are kept in {args.out}",
-                  file=sys.stderr)
-            return EXIT_NOT_CONVERGED
-        except KeyboardInterrupt:
-            run.close_progress()
-            print(f"bypassopt: error: interrupted; the files written so far are kept in {args.out}", file=sys.stderr)
-            return 130
+            sig = interrupt_signal(err)
+            kept = run.discard(interrupted=sig)
+            if run.committed:
+                where = f"the results are complete in {args.out}"
+            elif kept:
+                where = f"{args.out} is left as it was; the partial results are in {kept}"
+            elif run.target is not None:
+                where = f"{args.out} is left as it was"
+            else:
+                where = "nothing was written"
+            print(f"bypassopt: error: interrupted ({sig.name}); {where}", file=sys.stderr)
+            return 128 + int(sig)
         except Exception as err:  # noqa: BLE001 - the command line reports every failure in one line
             run.close_progress()
             if args.debug:
@@ -86,6 +108,14 @@ def main(argv=None):
             hint = "" if args.debug else " (run again with --debug for the traceback)"
             print(f"bypassopt: error: unexpected {type(err).__name__}: {one_line(err)}{hint}", file=sys.stderr)
             return EXIT_UNEXPECTED
+    if not_converged is not None:
+        run.close_progress()
+        if args.json:
+            payload = result if isinstance(result, dict) else {"caution": CAUTION}
+            emit_json({**payload, "error": one_line(not_converged)}, run.files)
+        print(f"bypassopt: error: {one_line(not_converged)}; the files written so far are kept in {args.out}",
+              file=sys.stderr)
+        return EXIT_NOT_CONVERGED
     if args.json:
         emit_json(result, run.files or None)
     else:

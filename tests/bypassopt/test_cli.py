@@ -102,7 +102,7 @@ def test_optimize_outputs(optimized):
     assert run.returncode == 0, run.stderr
     result = json.loads(run.stdout)
     assert result["caution"] == CAUTION and result["optimizer"]["success"]
-    names = ["history.sqlite", "optimum.json", "optimum.csv", "stations.csv", "summary.txt"]
+    names = ["history.sqlite", "optimum.json", "optimum.csv", "stations.csv", "summary.txt", "manifest.json"]
     if HAVE_MATPLOTLIB:
         names += ["convergence.png", "carpet.png"]
         _assert_png(out / "convergence.png")
@@ -179,7 +179,7 @@ def test_evaluate(tmp_path):
     assert q["BPR"]["value"] == 12.0 and q["Tt4"]["value"] == 1600.0
     assert q["FPR"]["value"] == demo_scenario()["design_variables"]["FPR"]["initial"]
     out = tmp_path / "res"
-    assert sorted(os.listdir(out)) == ["design.csv", "design.json", "stations.csv", "summary.txt"]
+    assert sorted(os.listdir(out)) == ["design.csv", "design.json", "manifest.json", "stations.csv", "summary.txt"]
     assert json.loads((out / "design.json").read_text())["quantities"] == q
     assert len(_read_csv(out / "stations.csv")) == 15
     _assert_numeric_values(out / "design.csv")
@@ -277,7 +277,8 @@ def test_check_derivatives_failure_exit_code(tmp_path, capsys, monkeypatch):
     captured = capsys.readouterr()
     result = json.loads(captured.out)  # the whole of stdout is one JSON document
     assert result["passed"] is False and "above the tolerance" in result["error"]
-    assert sorted(os.path.basename(f) for f in result["files"]) == ["derivatives.csv", "derivatives.json"]
+    assert sorted(os.path.basename(f) for f in result["files"]) == ["derivatives.csv", "derivatives.json",
+                                                                    "manifest.json"]
 
 
 def test_scenario_template(tmp_path):
