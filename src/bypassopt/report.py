@@ -160,9 +160,9 @@ def result_warnings(prob, scenario, node=0):
     """Flag a result no airliner could have: sentences for the summary's ``warnings`` list.
 
     Flagged (thresholds ``MAX_FUEL_FRACTION`` and ``MIN_AIRLINER_LIFT_TO_DRAG``, common practice):
-    take-off mass above the maximum take-off mass; design-mission fuel more than the maximum take-off mass
-    minus the zero-fuel mass (more than the aircraft can lift even with no reserve); mission fuel above half
-    the take-off mass; a cruise lift-to-drag ratio below 8. None of these stops the optimisation (unless the
+    take-off mass above the maximum take-off mass (one sentence, which also says when the design-mission fuel
+    alone is more than the maximum take-off mass minus the zero-fuel mass); mission fuel above half the
+    take-off mass; a cruise lift-to-drag ratio below 8. None of these stops the optimisation (unless the
     take-off mass is made a constraint): they say that the numbers describe no real aircraft.
 
     Parameters
@@ -192,15 +192,13 @@ def result_warnings(prob, scenario, node=0):
     tom = _value(prob, "takeoff_mass", "kg", node)
     mtom = tom + _value(prob, "mtow_margin", "kg", node)
     if tom > mtom:
-        out.append(f"The take-off mass {format_number(tom)} kg is above the maximum take-off mass "
-                   f"{format_number(mtom)} kg (aircraft.max_takeoff_mass_kg) by {format_number(tom - mtom)} kg: "
-                   "the aircraft cannot fly this mission as specified.")
-    if _has(prob, "zero_fuel_mass"):
-        zfm = _value(prob, "zero_fuel_mass", "kg", node)
-        if fuel > mtom - zfm:
-            out.append(f"The mission fuel {format_number(fuel)} kg is more than the maximum take-off mass minus "
-                       f"the zero-fuel mass ({format_number(mtom - zfm)} kg): more fuel than the aircraft could "
-                       "lift even without reserves.")
+        text = (f"The take-off mass {format_number(tom)} kg is above the maximum take-off mass "
+                f"{format_number(mtom)} kg (aircraft.max_takeoff_mass_kg) by {format_number(tom - mtom)} kg")
+        zfm = _value(prob, "zero_fuel_mass", "kg", node) if _has(prob, "zero_fuel_mass") else None
+        if zfm is not None and fuel > mtom - zfm:
+            text += (f"; the mission fuel alone, {format_number(fuel)} kg, is more than the maximum take-off mass "
+                     f"minus the zero-fuel mass ({format_number(mtom - zfm)} kg), even without reserves")
+        out.append(text + ": the aircraft cannot fly this mission as specified.")
     if tom > 0.0 and fuel / tom > MAX_FUEL_FRACTION:
         out.append(f"The mission fuel is {100.0 * fuel / tom:.0f} % of the take-off mass (above "
                    f"{100.0 * MAX_FUEL_FRACTION:.0f} %, which no airliner carries; common practice): check "

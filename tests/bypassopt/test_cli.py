@@ -460,3 +460,59 @@ def test_report_blocks_render_the_same_plain_text():
     render_rich(reengine_blocks(result), Console(file=buf, force_terminal=True, width=120))
     shown = buf.getvalue()
     assert "[bold red]Jet[/bold red]" in shown and "\x1b[2J" not in shown and "\r" not in shown
+
+
+# --------------------------------------------------------------------------------------------------------
+# feasibility screen and honest reports
+
+#: A screened infeasible case ends before any optimisation (it took SLSQP 30-130 s to fail before); the
+#: bound leaves room for the interpreter, the imports and a loaded machine.
+SCREEN_EXIT_S = 25.0
+
+
+@pytest.mark.parametrize("command", ["optimize", "reengine"])
+@pytest.mark.parametrize("text, key, reachable", [
+    ("[limits]\nmax_nacelle_diameter_m = 0.5\n", "limits.max_nacelle_diameter_m", "smallest nacelle reachable"),
+    ("[limits]\nmax_Tt41_K = 1500.0\n", "limits.max_Tt41_K", "lowest T41 reachable"),
+    ("[installation]\nwing_height_m = 2.0\n", "installation.min_ground_clearance_m",
+     "largest ground clearance reachable"),
+])
+def test_infeasible_limit_exits_2_before_optimising(tmp_path, command, text, key, reachable):
+    """Exit 2 in one line naming the limit, its best reachable value and the key; nothing written."""
+    import re
+    import time
+
+    (tmp_path / "bad.toml").write_text(text, encoding="utf-8")
+    args = [command, "--scenario", "bad.toml", "--out", "res"] + (["--no-plots"] if command == "optimize" else [])
+    start = time.monotonic()
+    run = bypassopt(*args, cwd=tmp_path)
+    assert time.monotonic() - start < SCREEN_EXIT_S
+    assert run.returncode == 2, run.stderr
+    lines = run.stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("bypassopt: error: " + key)
+    assert "cannot be met" in lines[0] and re.search(reachable + r" within the design-variable bounds is -?[0-9.]+ ",
+                                                     lines[0])
+    assert not (tmp_path / "res").exists() and run.stdout == ""
+
+
+def test_trade_with_a_limit_missed_at_every_value_exits_2(tmp_path):
+    (tmp_path / "bad.toml").write_text('[trade]\nlimit = "max_nacelle_diameter_m"\nvalues = [0.5, 1.0]\n',
+                                       encoding="utf-8")
+    run = bypassopt("trade", "--scenario", "bad.toml", "--out", "res", "--no-plots", cwd=tmp_path)
+    assert run.returncode == 2, run.stderr
+    assert "every value of trade.values" in run.stderr and not (tmp_path / "res").exists()
+
+
+def test_unconverged_implausible_run_claims_no_shadow_price(tmp_path):
+    """L/D = 1 stopped after 2 iterations: exit 3, implausibility warnings, no shadow price in any file."""
+    (tmp_path / "ld.toml").write_text("[aircraft]\nlift_to_drag = 1.0\n[optimizer]\nmaxiter = 2\n", encoding="utf-8")
+    run = bypassopt("optimize", "--scenario", "ld.toml", "--out", "res", "--no-plots", cwd=tmp_path)
+    assert run.returncode == 3, run.stderr
+    out = tmp_path / "res"
+    summary = (out / "summary.txt").read_text()
+    assert "DID NOT CONVERGE" in summary and "would save" not in summary and "not given" in summary
+    assert "no jet airliner cruises" in summary and "% of the take-off mass" in summary
+    optimum = json.loads((out / "optimum.json").read_text())
+    assert len(optimum["warnings"]) == 3 and optimum["shadow_price_statements"] == []
+    assert all(c["shadow_price"] is None for c in optimum["constraints"].values())
+    assert not [r for r in _read_csv(out / "optimum.csv") if r["name"].endswith("_shadow_price")]

@@ -278,3 +278,78 @@ def test_plain_and_rich_reports(evaluated):
     assert "[link=http://x]A320[/link]" in shown and "\x1b]8;" not in shown and "\x1b[31m" not in shown
     assert "free stream" in shown and "HPT rotor entry" in shown
     assert clean_text("a\tb\nc", keep_newlines=True) == "a b\nc"
+
+
+# --------------------------------------------------------------------------------------------------------
+# Honest reports of failed optimisations and implausible results
+
+
+def _short_run(overrides):
+    """The demo with ``overrides`` and an iteration limit of 2: the optimizer stops without converging."""
+    from bypassopt.scenario import load_scenario, validate
+
+    scenario = validate({"optimizer": {"maxiter": 2}, **overrides}, base=load_scenario())
+    prob, settings = build_best_cycle_problem(scenario, reports=False)
+    result = prob.run_driver()
+    return prob, settings, result
+
+
+def test_unconverged_violated_summary_claims_no_shadow_price():
+    """A run stopped at a design beyond the T41 limit: 'violated', not 'active', and no shadow price at all."""
+    prob, settings, result = _short_run({"limits": {"max_Tt41_K": 1500.0}})
+    s = optimum_summary(prob, settings, result)
+    assert not s["optimizer"]["success"]
+    t41 = s["constraints"]["Tt41"]
+    assert t41["margin"] < 0.0 and t41["violated"] and t41["status"] == "violated" and not t41["active"]
+    assert s["violated_limits"] == ["Tt41"]
+    assert s["shadow_price_statements"] == []
+    for c in s["constraints"].values():
+        assert c["shadow_price"] is None and c["multiplier"] is None and c["statement"] is None
+    for b in s["bounds"].values():
+        assert b["statement"] is None and b["multiplier"] is None
+    text = format_summary(s)
+    assert "DID NOT CONVERGE" in text and "VIOLATED" in text and "Violated limits: T41 limit missed by" in text
+    assert "would save" not in text and "would cost" not in text and "kg per K" not in text
+    assert "not given" in text
+    rows = {r["name"] for r in summary_rows(s)}
+    assert "Tt41_margin" in rows and not any(n.endswith("_shadow_price") for n in rows)
+
+
+def test_converged_summary_prices_inactive_limits_at_zero(optimised):
+    prob, settings, result = optimised
+    s = optimum_summary(prob, settings, result)
+    assert s["violated_limits"] == []
+    for c in s["constraints"].values():
+        assert not c["violated"] and c["status"] in ("active", "inactive") and c["shadow_price"] is not None
+        assert (c["status"] == "active") == c["active"]
+
+
+def test_implausible_results_are_flagged():
+    """L/D = 1: three warnings (L/D; take-off mass above maximum, fuel above MTOM - ZFM; fuel fraction)."""
+    from bypassopt.report import MAX_FUEL_FRACTION, result_warnings
+    from bypassopt.scenario import load_scenario, validate
+
+    scenario = validate({"aircraft": {"lift_to_drag": 1.0}}, base=load_scenario())
+    prob = build_evaluation_problem(scenario, reports=False)
+    prob.run_model()
+    warnings = result_warnings(prob, scenario)
+    assert len(warnings) == 3
+    assert warnings[0].startswith("aircraft.lift_to_drag = 1 is below 8")
+    assert "above the maximum take-off mass" in warnings[1]
+    assert "more than the maximum take-off mass minus the zero-fuel mass" in warnings[1]
+    fuel, tom = prob.get_val("mission_fuel")[0], prob.get_val("takeoff_mass")[0]
+    assert fuel / tom > MAX_FUEL_FRACTION and f"{100 * fuel / tom:.0f} % of the take-off mass" in warnings[2]
+    s = design_summary(prob, scenario=scenario)
+    assert s["warnings"] == warnings
+    text = format_summary(s)
+    assert "Warnings" in text and "no jet airliner cruises" in text
+    assert json.loads(json.dumps(s["warnings"])) == warnings
+
+
+def test_plausible_design_has_no_warnings_but_the_demos_mass(evaluated):
+    """The demo's design is plausible but for its take-off mass, which is above the demo's maximum."""
+    from bypassopt.report import result_warnings
+    from bypassopt.scenario import load_scenario
+
+    warnings = result_warnings(evaluated, load_scenario())
+    assert len(warnings) == 1 and "above the maximum take-off mass" in warnings[0]
