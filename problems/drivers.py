@@ -292,11 +292,20 @@ class BackOffSLSQPDriver(Driver):
         return not bool(result.success)
 
 
-def pyoptsparse_available():
-    """Return True when pyoptsparse imports (it is not on PyPI; see README for how to get it)."""
+def pyoptsparse_available(optimizer=None):
+    """Return True when pyoptsparse imports (and, if named, its ``optimizer`` loads; IPOPT needs cyipopt).
+
+    pyoptsparse is not on PyPI: see README for conda-forge and the source build.
+    """
     try:
-        import pyoptsparse  # noqa: F401
+        import pyoptsparse
     except ImportError:
+        return False
+    if optimizer is None:
+        return True
+    try:
+        pyoptsparse.OPT(optimizer)
+    except Exception:  # noqa: BLE001 - pyoptsparse raises its own Error, or ImportError of the optimizer
         return False
     return True
 
@@ -315,6 +324,10 @@ def make_driver(name="SLSQP", maxiter=100, tol=1e-8):
         raise ScenarioError(f"optimizer.driver = {name!r} needs pyoptsparse, which is not installed "
                             "(use 'SLSQP', or build pyoptsparse from source: see README).")
     opt = "SLSQP" if name == "pyoptsparse-SLSQP" else name
+    if not pyoptsparse_available(opt):
+        needs = {"IPOPT": "cyipopt (built against an IPOPT library)", "SNOPT": "SNOPT's licensed source"}
+        raise ScenarioError(f"optimizer.driver = {name!r}: pyoptsparse is installed but its {opt} optimizer does "
+                            f"not load; it needs {needs.get(opt, 'to be built into pyoptsparse')} (see README).")
     driver = om.pyOptSparseDriver(optimizer=opt, print_results=False)
     if opt == "SNOPT":
         driver.opt_settings.update({"Major iterations limit": maxiter, "Major optimality tolerance": tol})

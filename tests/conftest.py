@@ -71,3 +71,42 @@ def _cantera_air_enthalpy(T):
 def cantera_air_enthalpy():
     """Cantera dry-air sensible enthalpy, an outside reference (skips when Cantera is absent)."""
     return _cantera_air_enthalpy
+
+
+#: Set to 1 (CI's pyOptSparse environment does) to make the tests that need pyoptsparse fail, not skip, without it.
+REQUIRE_PYOPTSPARSE_ENV = "BYPASSOPT_REQUIRE_PYOPTSPARSE"
+
+
+def _pyoptsparse_missing(optimizers):
+    """Why pyoptsparse or one of the named optimizers cannot be used here, or '' when all load."""
+    try:
+        pyoptsparse = importlib.import_module("pyoptsparse")
+    except ImportError as err:
+        return (f"pyoptsparse is not installed ({err}); it is not on PyPI: conda-forge or a source build, "
+                "see README 'Optimizers'")
+    missing = []
+    for name in optimizers:
+        try:
+            pyoptsparse.OPT(name)
+        except Exception as err:  # noqa: BLE001 - pyoptsparse's Error or the optimizer's ImportError
+            missing.append(f"{name} ({str(err).strip().splitlines()[-1] if str(err).strip() else type(err).__name__})")
+    return f"pyoptsparse cannot load {', '.join(missing)}" if missing else ""
+
+
+@pytest.fixture(scope="session")
+def require_pyoptsparse():
+    """``require_pyoptsparse(*optimizers)``: skip the test without pyoptsparse (or an optimizer), with the reason.
+
+    With ``BYPASSOPT_REQUIRE_PYOPTSPARSE=1`` in the environment (CI's pyOptSparse run) it fails instead, so the
+    optimizer tests can never pass there by being skipped.
+    """
+
+    def check(*optimizers):
+        reason = _pyoptsparse_missing(optimizers)
+        if not reason:
+            return
+        if os.environ.get(REQUIRE_PYOPTSPARSE_ENV) == "1":
+            pytest.fail(f"{REQUIRE_PYOPTSPARSE_ENV}=1 but {reason}", pytrace=False)
+        pytest.skip(reason)
+
+    return check
