@@ -1,4 +1,21 @@
-"""Input checks that raise clear errors naming the variable, its value and the valid range."""
+"""Input checks that raise clear errors naming the variable, its value and the valid range.
+
+Two kinds of check (issue "Runs you can trust"):
+
+* ``check_range`` guards the arithmetic: a value outside its range would make the model's math fail
+  (a NaN from a log or power, a negative temperature). It raises at once, on every evaluation, Newton
+  iterates included, so no NaN ever reaches an output.
+* ``check_validity`` guards the engineering validity of a correlation (a fan diameter up to 5 m, a
+  Reynolds number the skin-friction law was fitted over). The math still works outside that range, so
+  while a coupled solver iterates (inside ``deferred_validity_checks``, which the solvers of
+  ``bypassopt.components.coupled_solver`` open around their solve) the check only records its result,
+  keyed by component and variable, each evaluation overwriting the previous one. When the solve has
+  converged, the records left are those of the converged state, and the solver raises for them. Outside
+  such a solve (a component run on its own, ``compute_totals`` at the converged point) it raises at once,
+  like ``check_range``. A NaN always raises at once.
+"""
+
+import contextlib
 
 import numpy as np
 import openmdao.api as om
@@ -17,13 +34,34 @@ def _fmt(x):
     return f"{x:.6g}"
 
 
+def _range_message(name, value, lower, upper, units, lower_inclusive, upper_inclusive, where):
+    """Return (message naming the first offending element, or None when all are valid; any NaN)."""
+    v = np.real(np.asarray(value))
+    flat = np.atleast_1d(v).ravel()
+    bad_nan = ~np.isfinite(flat)
+    lo_bad = flat < lower if lower_inclusive else flat <= lower
+    hi_bad = flat > upper if upper_inclusive else flat >= upper
+    bad = bad_nan | lo_bad | hi_bad
+    if not np.any(bad):
+        return None, False
+    i = int(np.argmax(bad))
+    u = f" {units}" if units else ""
+    node = f" at node {i}" if flat.size > 1 else ""
+    lo_s = "" if lower == -np.inf else ("from " if lower_inclusive else "above ") + _fmt(lower)
+    hi_s = "" if upper == np.inf else ("up to " if upper_inclusive else "below ") + _fmt(upper)
+    rng = " ".join(s for s in (lo_s, hi_s) if s) + u
+    prefix = f"{where}: " if where else ""
+    return f"{prefix}{name} = {_fmt(flat[i])}{u}{node} is outside the valid range ({rng}).", bool(np.any(bad_nan))
+
+
 def check_range(name, value, lower=-np.inf, upper=np.inf, units="", lower_inclusive=True,
                 upper_inclusive=True, where=""):
     """Raise ``InputRangeError`` if any element of ``value`` is NaN or outside [lower, upper].
 
-    Works on real or complex arrays (the real part is checked, so complex-step runs are not
-    disturbed). The message names the variable, the first offending value (and its node index
-    when ``value`` is an array) and the valid range.
+    For ranges outside which the model's math fails; it raises on every evaluation (see the module
+    docstring, and ``check_validity`` for engineering validity ranges). Works on real or complex arrays
+    (the real part is checked, so complex-step runs are not disturbed). The message names the variable,
+    the first offending value (and its node index when ``value`` is an array) and the valid range.
 
     Parameters
     ----------
@@ -40,22 +78,68 @@ def check_range(name, value, lower=-np.inf, upper=np.inf, units="", lower_inclus
     where : str
         Optional context (component path or element name) prepended to the message.
     """
-    v = np.real(np.asarray(value))
-    flat = np.atleast_1d(v).ravel()
-    bad_nan = ~np.isfinite(flat)
-    lo_bad = flat < lower if lower_inclusive else flat <= lower
-    hi_bad = flat > upper if upper_inclusive else flat >= upper
-    bad = bad_nan | lo_bad | hi_bad
-    if not np.any(bad):
+    msg, _ = _range_message(name, value, lower, upper, units, lower_inclusive, upper_inclusive, where)
+    if msg is not None:
+        raise InputRangeError(msg)
+
+
+#: Open validity logs, innermost last (``deferred_validity_checks``).
+_VALIDITY_LOGS = []
+
+
+def check_validity(name, value, lower=-np.inf, upper=np.inf, units="", lower_inclusive=True,
+                   upper_inclusive=True, where=""):
+    """Check an engineering validity range: judged on the converged state of a coupled solve.
+
+    Same arguments and message as ``check_range``. Inside ``deferred_validity_checks`` (a coupled
+    solver's solve) the result is recorded under ``(where, name)`` and replaces the record of the previous
+    evaluation; the solver raises for what is left once it has converged. Elsewhere it raises at once.
+    A NaN raises at once everywhere. Use it only where the math stays finite outside the range.
+
+    Parameters
+    ----------
+    name, value, lower, upper, units, lower_inclusive, upper_inclusive, where
+        As for ``check_range``.
+    """
+    msg, nan = _range_message(name, value, lower, upper, units, lower_inclusive, upper_inclusive, where)
+    if _VALIDITY_LOGS and not nan:
+        _VALIDITY_LOGS[-1][(where, name)] = msg
+    elif msg is not None:
+        raise InputRangeError(msg)
+
+
+@contextlib.contextmanager
+def deferred_validity_checks():
+    """Record ``check_validity`` results instead of raising; yield the log {(where, name): message or None}.
+
+    Logs nest: a solve inside another solve's iteration hands its records to the enclosing log (its
+    converged state is only an iterate of the outer solve). The caller raises with
+    ``raise_validity_violations`` once the solve has converged.
+    """
+    log = {}
+    _VALIDITY_LOGS.append(log)
+    try:
+        yield log
+    finally:
+        _VALIDITY_LOGS.pop()
+
+
+def validity_violations(log):
+    """Messages of the violations recorded in a validity log (its entries that are not None)."""
+    return [msg for msg in log.values() if msg is not None]
+
+
+def raise_validity_violations(log):
+    """After a converged solve: pass the log up to an enclosing one, or raise ``InputRangeError`` for it.
+
+    The error names every violated range of the converged state (variable, value and valid range).
+    """
+    if _VALIDITY_LOGS:
+        _VALIDITY_LOGS[-1].update(log)
         return
-    i = int(np.argmax(bad))
-    u = f" {units}" if units else ""
-    node = f" at node {i}" if flat.size > 1 else ""
-    lo_s = "" if lower == -np.inf else ("from " if lower_inclusive else "above ") + _fmt(lower)
-    hi_s = "" if upper == np.inf else ("up to " if upper_inclusive else "below ") + _fmt(upper)
-    rng = " ".join(s for s in (lo_s, hi_s) if s) + u
-    prefix = f"{where}: " if where else ""
-    raise InputRangeError(f"{prefix}{name} = {_fmt(flat[i])}{u}{node} is outside the valid range ({rng}).")
+    bad = validity_violations(log)
+    if bad:
+        raise InputRangeError(" ".join(bad) + " (judged on the converged solution)")
 
 
 def check_positive_option(name, value):

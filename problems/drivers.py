@@ -11,6 +11,8 @@ from scipy.optimize import minimize
 
 #: Added to the (scaled) objective at a design the model cannot evaluate, so the line search backs off.
 FAILED_EVALUATION_PENALTY = 1.0e3
+#: Bisections along the segment from an unevaluable start to an evaluable design (a step of 2**-8 of it).
+START_BISECTIONS = 8
 
 #: Before OpenMDAO 3.44 the ``lower``/``upper``/``equals`` of ``get_design_vars``/``get_constraints`` come
 #: already driver-scaled; from 3.44 on they are in the declared (physical) units. Checked on 3.41 and 3.45.
@@ -36,6 +38,14 @@ class BackOffSLSQPDriver(Driver):
 
     Design variables and responses are handed to SLSQP in OpenMDAO's driver scaling (``ref``/``ref0``).
 
+    A start the model cannot evaluate is moved rather than rejected: the driver bisects
+    (``START_BISECTIONS`` times) the segment from the start to an evaluable design, the option
+    ``fallback_design`` (for the best-cycle problem, the scenario's initial design) or else the last
+    design this driver evaluated in an earlier run, and starts SLSQP from the evaluable end of the last
+    bracket, the evaluable point found nearest the start on that segment. The move is recorded in
+    ``start_moved`` and the failed trials in ``failures``. Only when neither exists, or the fallback
+    design itself cannot be evaluated, does the run raise the model's error.
+
     Attributes
     ----------
     optimizer_result : scipy.optimize.OptimizeResult or None
@@ -46,6 +56,10 @@ class BackOffSLSQPDriver(Driver):
         Wall time of the last run spent in model solves and in total derivatives.
     failures : list of dict
         ``{"design": {name: value}, "message": str}`` of each failed evaluation of the last run.
+    start_moved : dict or None
+        None when the last run started where it was asked to; else ``{"from": design, "to": design,
+        "towards": design, "fraction": t}`` with designs as {name: list of values} and t the fraction of the
+        segment from the requested start towards the evaluable design at which SLSQP started.
     """
 
     def __init__(self, **kwargs):
@@ -61,6 +75,8 @@ class BackOffSLSQPDriver(Driver):
         self.model_evaluations = 0
         self.derivative_evaluations = 0
         self.failures = []
+        self.start_moved = None
+        self._known_good = None
         self._iterations = 0
         self.model_time_s = self.derivative_time_s = 0.0
 
@@ -69,6 +85,10 @@ class BackOffSLSQPDriver(Driver):
         self.options.declare("maxiter", types=int, default=100, lower=1, desc="largest number of iterations")
         self.options.declare("tol", types=float, default=1e-8, lower=0.0, desc="SLSQP convergence tolerance")
         self.options.declare("disp", types=bool, default=False, desc="let SciPy print its summary")
+        self.options.declare("fallback_design", default=None, types=dict, allow_none=True, recordable=False,
+                             desc="{design variable: value} in the units given to add_design_var, known to be "
+                                  "evaluable; a start that cannot be evaluated is moved towards it (None: the "
+                                  "last design evaluated in an earlier run)")
         self.options.declare("callback", default=None, allow_none=True, recordable=False,
                              desc="called after each model evaluation as callback(evaluation, objective, ok, "
                                   "iteration) with the objective in its declared units (None where it failed)")
@@ -139,6 +159,9 @@ class BackOffSLSQPDriver(Driver):
             design = {name: self._get(name, self._dv_meta[name]).tolist() for name in self._dv_names}
             self.failures.append({"design": design, "message": str(err).strip().splitlines()[-1][:500]})
             if self._last_good is None:  # the start itself cannot be evaluated: nothing to back off to
+                if self._moving_start:
+                    self._cache_key, self._cache = key, (np.nan, None, False)
+                    return self._cache
                 raise
             f_good, g_good, _ = self._last_good
             self._cache_key, self._cache = key, (f_good + FAILED_EVALUATION_PENALTY, g_good, False)
@@ -151,6 +174,7 @@ class BackOffSLSQPDriver(Driver):
         g = np.concatenate([self._con_margins(n) for n in self._con_names] or [np.zeros(0)])
         self._cache_key, self._cache = key, (f, g, True)
         self._last_good = (f, g, np.array(x, dtype=float))
+        self._known_good = {name: self._get(name, self._dv_meta[name]) for name in self._dv_names}
         self._notify(float(self._get(self._obj_name, self._obj_meta)[0]), True)
         return self._cache
 
@@ -220,6 +244,61 @@ class BackOffSLSQPDriver(Driver):
             return np.full(size, -np.inf if which == "lower" else np.inf)
         return np.broadcast_to(self._scaled_bound(meta, value), (size,))
 
+    def _design(self, x):
+        """{name: list of values} of a scaled design vector."""
+        out, i = {}, 0
+        for name in self._dv_names:
+            meta = self._dv_meta[name]
+            size = int(meta["size"])
+            scaler, adder = self._scaling(meta)
+            out[name] = (np.asarray(x[i:i + size], dtype=float) / scaler - adder).tolist()
+            i += size
+        return out
+
+    def _fallback_x(self):
+        """Scaled evaluable design to move an unevaluable start towards, or None."""
+        design = self.options["fallback_design"] or self._known_good
+        if not design:
+            return None
+        return np.concatenate([self._scaled(self._dv_meta[n],
+                                            np.broadcast_to(design[n], (int(self._dv_meta[n]["size"]),)))
+                               for n in self._dv_names])
+
+    def _evaluable_start(self, x0, lower, upper):
+        """Return x0, or the evaluable point nearest x0 on the segment towards the fallback design.
+
+        Bisection keeps a bracket [t_bad, t_good] along x(t) = x0 + t (x_fallback - x0), t_good evaluable.
+        Raises the model's error when x0 cannot be evaluated and no evaluable fallback exists.
+        """
+        self._moving_start = True
+        try:
+            if self._evaluate(x0)[2]:
+                return x0
+            target = self._fallback_x()
+            if target is None:
+                self._moving_start = False
+                self._cache_key = None
+                self._evaluate(x0)  # raises the model's error
+            target = np.clip(target, lower, upper)
+            t_bad, t_good = 0.0, 1.0
+            if not self._evaluate(target)[2]:
+                self._moving_start = False
+                self._cache_key = None
+                self._evaluate(target)  # the fallback cannot be evaluated either: raise its error
+            for _ in range(START_BISECTIONS):
+                t = 0.5 * (t_bad + t_good)
+                if self._evaluate(x0 + t * (target - x0))[2]:
+                    t_good = t
+                else:
+                    t_bad = t
+            moved = x0 + t_good * (target - x0)
+            self.start_moved = {"from": self._design(x0), "to": self._design(moved), "towards": self._design(target),
+                                "fraction": t_good}
+            self._cache_key = None
+            return moved
+        finally:
+            self._moving_start = False
+
     # -- the run --------------------------------------------------------------------------------------
 
     def run(self):
@@ -236,8 +315,10 @@ class BackOffSLSQPDriver(Driver):
         self.model_evaluations = self.derivative_evaluations = 0
         self.model_time_s = self.derivative_time_s = 0.0
         self.failures = []
+        self.start_moved = None
         self._cache_key = self._grad_key = None
         self._last_good = None
+        self._moving_start = False
         self._iterations = 0
 
         def count_iteration(_x):
@@ -248,6 +329,7 @@ class BackOffSLSQPDriver(Driver):
         lower = np.concatenate([self._bound(n, "lower") for n in self._dv_names])
         upper = np.concatenate([self._bound(n, "upper") for n in self._dv_names])
         x0 = np.clip(x0, lower, upper)
+        x0 = self._evaluable_start(x0, lower, upper)
         eq = [n for n in self._con_names if self._con_meta[n].get("equals") is not None]
         constraints = []
         ineq_names = [n for n in self._con_names if n not in eq]

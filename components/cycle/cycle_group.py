@@ -4,7 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.atmosphere.flight_condition_group import FlightConditionGroup
-from bypassopt.components.coupled_solver import COUPLED_SOLVERS, set_coupled_solvers
+from bypassopt.components.coupled_solver import COUPLED_SOLVERS, last_solve_succeeded, set_coupled_solvers
 from bypassopt.components.defaults import ENGINE_DEFAULTS
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
@@ -20,6 +20,12 @@ from .performance_comp import PerformanceComp
 from .sizing_comp import SizingComp
 from .spool_power_comp import SpoolPowerComp
 from .turbine_comp import TurbineComp
+
+#: Specific thrust (N*s/kg) of the physics guess of W2 = Fn_required / FN_SPECIFIC_GUESS: the low end of
+#: bypass engines in cruise, so the guess errs high (a high W2 only lowers the offtake per unit flow).
+FN_SPECIFIC_GUESS = 100.0
+#: Tt4 - Tt41 (K) of the physics guess of the Tt41 balance: the vane coolant cools the gas by tens of kelvin.
+TT4_OVER_TT41_GUESS = 50.0
 
 
 class TurbofanCycleGroup(om.Group):
@@ -146,8 +152,19 @@ class TurbofanCycleGroup(om.Group):
         only lowers the offtake per unit flow, so this never makes the first pass infeasible; a larger
         guess and a converged solution are left as they are. It also runs when a parent group's solver
         closes the loop (the installed engine); it does nothing under complex step.
+
+        When this group owns its solver (``solve_sizing=True``), the first solve and any solve after a failed
+        one start from the inputs alone, never from what a failure left: ``W2 = Fn_required /
+        FN_SPECIFIC_GUESS`` and, with ``turbine_temperature_input='Tt41'``, ``Tt4 = Tt41_required +
+        TT4_OVER_TT41_GUESS``. (Inside the installed engine, that group's guess resets the loop.)
         """
         if self.under_complex_step:
+            return
+        if self.options["solve_sizing"] and not last_solve_succeeded(self):
+            # own solver, first solve or the last one failed: start from the inputs alone
+            outputs["W2"] = np.real(inputs["Fn_required"]) / FN_SPECIFIC_GUESS
+            if self.options["turbine_temperature_input"] == "Tt41":
+                outputs["Tt4"] = np.real(inputs["Tt41_required"]) + TT4_OVER_TT41_GUESS
             return
         fn_sp = np.real(outputs["Fn_specific"])
         w2 = np.real(outputs["W2"])

@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.components.validation import check_range
+from bypassopt.components.validation import check_range, check_validity
 from bypassopt.components.options import declare_num_nodes
 
 #: Fan module mass (blades, disc, case, containment) of a 2.0 m fan, kg (common-practice calibration).
@@ -25,6 +25,10 @@ OPR_REF = 40.0
 P_LP_REF = 10.0e6
 
 # (name, default, lower, upper, units, desc)
+#: Inputs that follow the engine size, an unknown of the installed engine's coupled solve: their ranges are
+#: correlation validity, judged on the converged state (``check_validity``); the powers need them positive.
+_SIZED = ("fan_tip_diameter", "W25_corrected", "LP_shaft_power", "nacelle_wetted_area")
+
 _INPUTS = (
     ("fan_tip_diameter", 2.0, 0.3, 5.0, "m", "Fan tip diameter"),
     ("W25_corrected", 20.0, 1.0, 200.0, "kg/s", "Corrected mass flow at HPC entry (station 25)"),
@@ -121,7 +125,11 @@ class EngineMassComp(om.ExplicitComponent):
 
     def _check(self, inputs):
         for name, _default, lo, hi, units, _desc in self._input_table():
-            check_range(name, inputs[name], lo, hi, units or "", where=self.pathname)
+            if name in _SIZED:  # follow the coupled engine size: validity judged on the converged state
+                check_validity(name, inputs[name], lo, hi, units, where=self.pathname)
+                check_range(name, inputs[name], 0.0, np.inf, units, lower_inclusive=False, where=self.pathname)
+            else:
+                check_range(name, inputs[name], lo, hi, units or "", where=self.pathname)
 
     def compute(self, inputs, outputs):
         """Compute the module masses and their sums."""

@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.components.validation import check_range
+from bypassopt.components.validation import check_range, check_validity
 from bypassopt.components.options import declare_num_nodes
 
 
@@ -73,8 +73,9 @@ class GroundClearanceComp(om.ExplicitComponent):
         where = self.pathname
         check_range("wing_height", inputs["wing_height"], 0.0, 50.0, "m", where=where)
         check_range("nacelle_wing_gap", inputs["nacelle_wing_gap"], -10.0, 10.0, "m", where=where)
-        check_range("nacelle_max_diameter", inputs["nacelle_max_diameter"], 0.0, 20.0, "m",
-                    lower_inclusive=False, where=where)
+        # follows the coupled engine size; linear here, so only its validity is checked (converged state)
+        check_validity("nacelle_max_diameter", inputs["nacelle_max_diameter"], 0.0, 20.0, "m",
+                       lower_inclusive=False, where=where)
         check_range("min_ground_clearance", inputs["min_ground_clearance"], 0.0, 10.0, "m", where=where)
         check_range("max_nacelle_diameter", inputs["max_nacelle_diameter"], 0.0, 20.0, "m",
                     lower_inclusive=False, where=where)

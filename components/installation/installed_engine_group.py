@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.components.coupled_solver import COUPLED_SOLVERS, set_coupled_solvers
+from bypassopt.components.coupled_solver import COUPLED_SOLVERS, last_solve_succeeded, set_coupled_solvers
 from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
 from bypassopt.components.defaults import INPUT_DEFAULTS
 from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
@@ -15,6 +15,13 @@ from .ground_clearance_comp import GroundClearanceComp
 from .installed_performance_comp import InstalledPerformanceComp
 from .nacelle_drag_comp import NacelleDragComp
 from .nacelle_geometry_comp import NacelleGeometryComp
+
+#: Nacelle drag as a fraction of the thrust requirement in the physics guess of ``Fn_required`` (the demo
+#: engine's is 4.7 %; common practice: a few per cent of cruise thrust).
+NACELLE_DRAG_FRACTION_GUESS = 0.05
+#: Specific thrust (N*s/kg) of the physics guess of W2: the low end of bypass engines in cruise, so W2 errs
+#: high (a high W2 only lowers the HP offtake per unit flow and keeps the first pass computable).
+FN_SPECIFIC_GUESS = 100.0
 
 
 class InstalledEngineGroup(om.Group):
@@ -80,3 +87,29 @@ class InstalledEngineGroup(om.Group):
             self.set_input_defaults(name, value * np.ones(nn), units=units)
 
         set_coupled_solvers(self, self.options["coupled_solver"], nn)
+
+    def guess_nonlinear(self, inputs, outputs, residuals):
+        """Start the coupled unknowns from a physics guess unless the last solve converged.
+
+        The loop's feedback unknowns are ``Fn_required`` (read by the cycle's sizing before the nacelle drag
+        is known) and ``W2`` (read by the HP spool balance through the offtake per unit flow); every other
+        output is recomputed from them by the solver's first Gauss-Seidel pass. Before the first solve and
+        after a failed one (the group's solver records it, ``coupled_solver.last_solve_succeeded``) they are
+        set from the inputs alone: ``Fn_required = thrust_required (1 + NACELLE_DRAG_FRACTION_GUESS)`` and
+        ``W2 = Fn_required / FN_SPECIFIC_GUESS``. So a failed run (an absurd thrust) leaves nothing behind,
+        and a problem gives the same result as a fresh one. After a converged solve the solution is kept as
+        the start (a warm start is about five times faster), with ``Fn_required`` reset when it no longer
+        lies between the new thrust requirement and twice it. Nothing is done under complex step.
+        """
+        if self.under_complex_step:
+            return
+        thrust = np.real(inputs["thrust_required"])
+        fn_guess = thrust * (1.0 + NACELLE_DRAG_FRACTION_GUESS)
+        if not last_solve_succeeded(self):
+            outputs["Fn_required"] = fn_guess
+            outputs["W2"] = fn_guess / FN_SPECIFIC_GUESS
+            return
+        fn = np.real(outputs["Fn_required"])
+        stale = ~np.isfinite(fn) | (fn < thrust) | (fn > 2.0 * thrust)
+        if np.any(stale):
+            outputs["Fn_required"] = np.where(stale, fn_guess, fn)

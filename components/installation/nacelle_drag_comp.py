@@ -3,12 +3,17 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.components.validation import check_range
+from bypassopt.components.validation import check_range, check_validity
 from bypassopt.components.options import declare_num_nodes
 
 from .skin_friction import compressibility_factor, nacelle_form_factor, schlichting_cf, sutherland_viscosity
 
 # (name, default, lower, upper, lower_inclusive, units, desc) for every input.
+#: Inputs that follow the engine size, an unknown of the installed engine's coupled solve: their ranges are
+#: judged on the converged state (``check_validity``); on every evaluation they need only be positive.
+_SIZED = ("fan_cowl_length", "nacelle_max_diameter", "fan_cowl_wetted_area", "core_cowl_length",
+          "core_cowl_wetted_area", "plug_length", "plug_wetted_area")
+
 _INPUTS = (
     ("q0", 10154.0, 0.0, 1.0e5, False, "Pa", "Free-stream dynamic pressure"),
     ("Mach0", 0.78, 0.0, 0.95, True, None, "Free-stream Mach number"),
@@ -110,13 +115,17 @@ class NacelleDragComp(om.ExplicitComponent):
         """Check the inputs and return the drag terms and their factors (complex-step safe)."""
         where = self.pathname
         for name, _default, lo, hi, inc, units, _desc in _INPUTS:
-            check_range(name, inputs[name], lo, hi, units or "", lower_inclusive=inc, where=where)
+            if name in _SIZED:  # follow the coupled engine size: validity judged on the converged state
+                check_validity(name, inputs[name], lo, hi, units or "", lower_inclusive=inc, where=where)
+                check_range(name, inputs[name], 0.0, np.inf, units or "", lower_inclusive=inc, where=where)
+            else:
+                check_range(name, inputs[name], lo, hi, units or "", lower_inclusive=inc, where=where)
 
         t = {}
         L_fc = inputs["fan_cowl_length"]
         t["Re0"] = inputs["Re_per_m0"] * L_fc
-        check_range("fan-cowl Reynolds number Re_per_m0*fan_cowl_length", t["Re0"], 1e5, 1e9,
-                    where=where)
+        check_validity("fan-cowl Reynolds number Re_per_m0*fan_cowl_length", t["Re0"], 1e5, 1e9,
+                       where=where)
         t["cf0"], t["dcf0"] = schlichting_cf(t["Re0"])
         t["K0"], t["dK0"] = compressibility_factor(inputs["Mach0"], "Mach0")
         t["ld"] = L_fc / inputs["nacelle_max_diameter"]
@@ -130,8 +139,8 @@ class NacelleDragComp(om.ExplicitComponent):
         t["K18"], t["dK18"] = compressibility_factor(inputs["Mach18_jet"], "Mach18_jet")
         for part in ("core_cowl", "plug"):
             Re = t["Re_unit18"] * inputs[f"{part}_length"]
-            check_range(f"{part} Reynolds number rho18_jet*V18_jet*{part}_length/mu", Re, 1e5, 1e9,
-                        where=where)
+            check_validity(f"{part} Reynolds number rho18_jet*V18_jet*{part}_length/mu", Re, 1e5, 1e9,
+                           where=where)
             t[f"Re_{part}"] = Re
             t[f"cf_{part}"], t[f"dcf_{part}"] = schlichting_cf(Re)
         return t

@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.components.validation import check_range
+from bypassopt.components.validation import check_range, check_validity
 from bypassopt.components.options import declare_num_nodes
 
 # (name, default, lower, upper, units, desc) for every input, in declaration order.
@@ -44,6 +44,8 @@ _OUTPUTS = (
 )
 
 # Which inputs each output depends on (the sparsity pattern of the Jacobian).
+#: Inputs that follow the engine size (W2), an unknown of the coupled solve.
+_SIZED = ("fan_tip_diameter", "core_inlet_tip_diameter")
 _CORE = ("core_inlet_tip_diameter", "core_cowl_diameter_ratio")
 _FAN = ("fan_tip_diameter", "nacelle_diameter_ratio", "containment_allowance")
 _DEPENDS = {
@@ -93,7 +95,9 @@ class NacelleGeometryComp(om.ExplicitComponent):
     (core-cowl and plug ratios); none is data for a real engine.
 
     Valid range: the limits checked in ``compute`` (e.g. nacelle diameter ratio 1.0-1.6, fan tip
-    diameter 0.2-5 m). All quantities are per engine.
+    diameter 0.2-5 m). The diameters follow the engine size, an unknown of the installed engine's coupled
+    solve, so their ranges are judged on the converged state (``check_validity``); elsewhere they must
+    only be positive. All quantities are per engine.
     """
 
     def initialize(self):
@@ -120,7 +124,11 @@ class NacelleGeometryComp(om.ExplicitComponent):
 
     def _check(self, inputs):
         for name, _default, lo, hi, units, _desc in _INPUTS:
-            check_range(name, inputs[name], lo, hi, units or "", where=self.pathname)
+            if name in _SIZED:  # follow the coupled engine size: validity judged on the converged state
+                check_validity(name, inputs[name], lo, hi, units, where=self.pathname)
+                check_range(name, inputs[name], 0.0, np.inf, units, lower_inclusive=False, where=self.pathname)
+            else:
+                check_range(name, inputs[name], lo, hi, units or "", where=self.pathname)
 
     def compute(self, inputs, outputs):
         """Compute the nacelle dimensions and wetted areas."""

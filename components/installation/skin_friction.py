@@ -2,7 +2,9 @@
 
 Pure numpy: each function returns ``(value, derivative)`` so that components can assemble analytic
 partials by the chain rule. All functions are complex-step safe (``np.log10`` and real powers of
-positive quantities only; the range checks look at the real part).
+positive quantities only; the range checks look at the real part). Reynolds-number, length-to-diameter
+and temperature ranges are correlation validity (``check_validity``: judged on a coupled solve's converged
+state); only the bounds the math needs raise on every evaluation.
 
 Sources
 -------
@@ -16,7 +18,7 @@ Sources
 
 import numpy as np
 
-from bypassopt.components.validation import check_range
+from bypassopt.components.validation import check_range, check_validity
 
 #: Lowest Reynolds number (based on wetted length) for which the turbulent lines are used here.
 RE_MIN = 1.0e5
@@ -56,7 +58,8 @@ def schlichting_cf(Re, name="Re"):
         Derivative of ``cf`` with respect to ``Re``.
     """
     Re = np.asarray(Re)
-    check_range(name, Re, RE_MIN, RE_MAX)
+    check_validity(name, Re, RE_MIN, RE_MAX)  # the turbulent line
+    check_range(name, Re, 1.0, np.inf, lower_inclusive=False)  # log10(Re) > 0
     lg = np.log10(Re)
     cf = 0.455 * lg ** -2.58
     dcf_dRe = -2.58 * 0.455 * lg ** -3.58 / (Re * _LN10)
@@ -86,7 +89,8 @@ def ittc1957_cf(Re, name="Re"):
         Derivative of ``cf`` with respect to ``Re``.
     """
     Re = np.asarray(Re)
-    check_range(name, Re, RE_MIN, RE_MAX)
+    check_validity(name, Re, RE_MIN, RE_MAX)  # the turbulent line
+    check_range(name, Re, 1.0, np.inf, lower_inclusive=False)  # log10(Re) > 0
     t = np.log10(Re) - 2.0
     cf = 0.075 * t ** -2
     dcf_dRe = -0.15 * t ** -3 / (Re * _LN10)
@@ -147,7 +151,8 @@ def nacelle_form_factor(length_over_diameter, name="length_over_diameter"):
         Derivative of ``ff`` with respect to the length-to-diameter ratio.
     """
     ld = np.asarray(length_over_diameter)
-    check_range(name, ld, 0.5, 10.0)
+    check_validity(name, ld, 0.5, 10.0)  # the correlation
+    check_range(name, ld, 0.0, np.inf, lower_inclusive=False)  # the math
     ff = 1.0 + 0.35 / ld
     dff_dld = -0.35 / ld ** 2
     return ff, dff_dld
@@ -177,7 +182,8 @@ def sutherland_viscosity(T, name="T"):
         Derivative of ``mu`` with respect to ``T`` in Pa*s/K.
     """
     T = np.asarray(T)
-    check_range(name, T, 100.0, 1000.0, "K")
+    check_validity(name, T, 100.0, 1000.0, "K")  # the correlation
+    check_range(name, T, 0.0, np.inf, "K", lower_inclusive=False)  # the math
     den = T + SUTHERLAND_S
     mu = SUTHERLAND_BETA * T ** 1.5 / den
     dmu_dT = SUTHERLAND_BETA * np.sqrt(T) * (0.5 * T + 1.5 * SUTHERLAND_S) / den ** 2

@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.components.validation import check_range
+from bypassopt.components.validation import check_range, check_validity
 from bypassopt.components.options import declare_num_nodes
 
 #: Coefficient of the SI form, kg/kN**1.1 (Raymer, from memory; 0.084 lb/lbf**1.1 in English units).
@@ -54,7 +54,10 @@ class StatisticalEngineMassComp(om.ExplicitComponent):
         self.declare_partials("statistical_engine_mass", "BPR", rows=ar, cols=ar)
 
     def _check(self, inputs):
-        check_range("takeoff_thrust", inputs["takeoff_thrust"], 1.0e3, 1.0e6, "N", where=self.pathname)
+        # the fit's validity (judged on a coupled solve's converged state); the power law needs T > 0
+        check_validity("takeoff_thrust", inputs["takeoff_thrust"], 1.0e3, 1.0e6, "N", where=self.pathname)
+        check_range("takeoff_thrust", inputs["takeoff_thrust"], 0.0, np.inf, "N", lower_inclusive=False,
+                    where=self.pathname)
         check_range("BPR", inputs["BPR"], 0.0, 20.0, where=self.pathname)
 
     def compute(self, inputs, outputs):

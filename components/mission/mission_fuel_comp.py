@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.components.validation import check_range
+from bypassopt.components.validation import check_range, check_validity
 from bypassopt.components.options import declare_num_nodes
 
 #: Standard acceleration of gravity, m/s**2 (ISO 80000-3 / CGPM 1901).
@@ -31,6 +31,8 @@ _INPUTS = (
     ("climb_fraction", 0.985, 0.9, 1.0, False, None, "Mass ratio end/start of climb"),
 )
 
+#: Inputs that follow the installed engine's coupled solve.
+_COUPLED = ("installed_TSFC", "powerplant_mass")
 _MASS_IN = ("empty_mass_no_engines", "payload", "powerplant_mass")
 _ALL_BUT_MTOM = tuple(name for name, *_ in _INPUTS if name != "max_takeoff_mass")
 _DEPENDS = {
@@ -118,8 +120,12 @@ class MissionFuelComp(om.ExplicitComponent):
     def _solve(self, inputs):
         """Check the inputs and return the intermediate quantities (complex-step safe)."""
         for name, _default, lo, hi, inc, units, _desc in _INPUTS:
-            check_range(name, inputs[name], lo, hi, units or "", lower_inclusive=inc,
-                        where=self.pathname)
+            if name in _COUPLED:  # upper bound: validity, judged on the converged state of a coupled solve
+                check_validity(name, inputs[name], lo, hi, units or "", lower_inclusive=inc, where=self.pathname)
+                check_range(name, inputs[name], lo, np.inf, units or "", lower_inclusive=inc, where=self.pathname)
+            else:
+                check_range(name, inputs[name], lo, hi, units or "", lower_inclusive=inc,
+                            where=self.pathname)
         n = self.options["num_engines"]
         s = {}
         s["zfm"] = inputs["empty_mass_no_engines"] + n * inputs["powerplant_mass"] + inputs["payload"]
