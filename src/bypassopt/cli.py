@@ -53,6 +53,11 @@ def main(argv=None):
     try:
         with terminate_as_interrupt():
             return _run_command(run, args)
+    except KeyboardInterrupt as err:  # while printing, once the results were swapped in (or none were written)
+        sig = interrupt_signal(err)
+        done = f"; the results are complete in {args.out}" if run.committed else ""
+        print(f"bypassopt: error: interrupted ({sig.name}){done}", file=sys.stderr)
+        return 128 + int(sig)
     finally:
         run.close()  # on every way out: a folder not swapped in is set aside, the lock released
 

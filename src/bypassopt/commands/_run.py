@@ -372,10 +372,11 @@ class Run:
         """End the run on any way out: discard a folder not committed, release the lock."""
         self.discard()
         if self._lock_fd is not None:
-            with contextlib.suppress(OSError):
-                os.unlink(self._lock_path)  # while still holding it: see _lock
-            os.close(self._lock_fd)
-            self._lock_fd = None
+            with signals_ignored():
+                with contextlib.suppress(OSError):
+                    os.unlink(self._lock_path)  # while still holding it: see _lock
+                os.close(self._lock_fd)
+                self._lock_fd = None
 
     def _lock(self):
         """Take the lock ``<out>.lock``, or raise a UsageError naming the run that holds it."""
