@@ -179,8 +179,8 @@ class Aircraft(_Section):
                                            "empty_mass_no_engines")
     payload_kg: float = _num(0.0, 5e5, "design payload", "payload")
     design_range_m: float = _num(1e5, 2e7, "design range flown in cruise", "design_range")
-    lift_to_drag: float = _num(1.0, 40.0, "cruise lift-to-drag ratio of the airframe without nacelles",
-                               "lift_to_drag")
+    lift_to_drag: float = _num(5.0, 40.0, "cruise lift-to-drag ratio of the airframe without nacelles (below 8 "
+                               "is flagged in the results)", "lift_to_drag")
     reserve_fraction: float = _num(0.0, 0.3, "reserve fuel as a fraction of zero-fuel mass", "reserve_fraction")
     taxi_takeoff_fraction: float = _num(0.9, 1.0, "mass ratio end/start of taxi and take-off",
                                         "taxi_takeoff_fraction", lo_open=True)
@@ -241,6 +241,8 @@ class Limits(_Section):
     max_Tt41_K: float = _num(1000.0, 2400.0, "largest HPT rotor inlet temperature (from your engine data)")
     max_Tt3_K: float = _num(500.0, 1300.0, "largest HPC exit temperature (from your engine data)")
     min_core_size_kg_s: float = _num(0.0, 100.0, "smallest HPC exit corrected flow")
+    enforce_max_takeoff_mass: bool = Field(False, description="add take-off mass <= maximum take-off mass as a "
+                                                              "constraint of the best-cycle problem")
 
 
 class Engine(_Section):

@@ -504,15 +504,15 @@ def test_trade_with_a_limit_missed_at_every_value_exits_2(tmp_path):
 
 
 def test_unconverged_implausible_run_claims_no_shadow_price(tmp_path):
-    """L/D = 1 stopped after 2 iterations: exit 3, implausibility warnings, no shadow price in any file."""
-    (tmp_path / "ld.toml").write_text("[aircraft]\nlift_to_drag = 1.0\n[optimizer]\nmaxiter = 2\n", encoding="utf-8")
+    """L/D = 5 stopped after 2 iterations: exit 3, implausibility warnings, no shadow price in any file."""
+    (tmp_path / "ld.toml").write_text("[aircraft]\nlift_to_drag = 5.0\n[optimizer]\nmaxiter = 2\n", encoding="utf-8")
     run = bypassopt("optimize", "--scenario", "ld.toml", "--out", "res", "--no-plots", cwd=tmp_path)
     assert run.returncode == 3, run.stderr
     out = tmp_path / "res"
     summary = (out / "summary.txt").read_text()
     assert "DID NOT CONVERGE" in summary and "would save" not in summary and "not given" in summary
-    assert "no jet airliner cruises" in summary and "% of the take-off mass" in summary
+    assert "no jet airliner cruises" in summary and "above the maximum take-off mass" in summary
     optimum = json.loads((out / "optimum.json").read_text())
-    assert len(optimum["warnings"]) == 3 and optimum["shadow_price_statements"] == []
+    assert len(optimum["warnings"]) >= 2 and optimum["shadow_price_statements"] == []
     assert all(c["shadow_price"] is None for c in optimum["constraints"].values())
     assert not [r for r in _read_csv(out / "optimum.csv") if r["name"].endswith("_shadow_price")]

@@ -325,16 +325,17 @@ def test_converged_summary_prices_inactive_limits_at_zero(optimised):
 
 
 def test_implausible_results_are_flagged():
-    """L/D = 1: three warnings (L/D; take-off mass above maximum, fuel above MTOM - ZFM; fuel fraction)."""
+    """L/D = 5 (the lowest the schema accepts): three warnings (L/D; take-off mass above maximum, fuel above
+    MTOM - ZFM; fuel fraction)."""
     from bypassopt.report import MAX_FUEL_FRACTION, result_warnings
     from bypassopt.scenario import load_scenario, validate
 
-    scenario = validate({"aircraft": {"lift_to_drag": 1.0}}, base=load_scenario())
+    scenario = validate({"aircraft": {"lift_to_drag": 5.0}}, base=load_scenario())
     prob = build_evaluation_problem(scenario, reports=False)
     prob.run_model()
     warnings = result_warnings(prob, scenario)
     assert len(warnings) == 3
-    assert warnings[0].startswith("aircraft.lift_to_drag = 1 is below 8")
+    assert warnings[0].startswith("aircraft.lift_to_drag = 5 is below 8")
     assert "above the maximum take-off mass" in warnings[1]
     assert "more than the maximum take-off mass minus the zero-fuel mass" in warnings[1]
     fuel, tom = prob.get_val("mission_fuel")[0], prob.get_val("takeoff_mass")[0]

@@ -37,7 +37,7 @@ def run(run, scenario):
         design[var] = value
     with run.quiet_stdout():
         prob = precheck_design(scenario, design, "this design")
-        summary = design_summary(prob)
+        summary = design_summary(prob, scenario=scenario)
     run.prepare_out()
     write_summary_files(run, summary, "design")
     return summary, EXIT_OK
