@@ -348,6 +348,10 @@ def optimum_summary(prob, settings, driver_result):
     obj_units = kkt["objective"]["units"]
     summary["objective"] = kkt["objective"]
     success = summary["optimizer"]["success"]
+    from bypassopt.problems.optimizer_multipliers import optimizer_multipliers
+
+    # the optimizer's own multipliers (IPOPT through pyOptSparse returns them), beside the KKT analysis's
+    own_prices = optimizer_multipliers(prob, settings) if success else None
     constraints, statements = {}, []
     for name, c in kkt["constraints"].items():
         label, step, step_words, phrase = CONSTRAINT_WORDS.get(name, (name, 1.0, "1 unit", f"relaxing {name}"))
@@ -360,6 +364,8 @@ def optimum_summary(prob, settings, driver_result):
                  "multiplier": c["multiplier"] if success and not violated else None,
                  "shadow_price": c["shadow_price"] if success and not violated else None,
                  "shadow_price_units": f"{obj_units} per {c['units'] or 'unit'}",
+                 "optimizer_shadow_price": (own_prices[name]["shadow_price"]
+                                            if own_prices and name in own_prices and not violated else None),
                  "statement": None}
         if priced:
             entry["statement"] = f"{phrase} {_saving_words(c['multiplier'] * step, objective, obj_units)}."

@@ -157,6 +157,9 @@ def test_ipopt_multipliers_equal_kkt_shadow_prices(optimum, require_pyoptsparse)
             assert own["multiplier"] > 0.0
         else:
             assert abs(own["shadow_price"]) < 1e-6 * largest, name
+    # the summary carries the optimizer's own price beside the KKT one
+    for name, c in run.summary["constraints"].items():
+        assert c["optimizer_shadow_price"] == pytest.approx(run.own_prices[name]["shadow_price"], rel=1e-12)
 
 
 def test_pyoptsparse_slsqp_and_scipy_keep_no_multipliers(optimum, require_pyoptsparse):
