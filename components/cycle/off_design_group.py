@@ -1,0 +1,225 @@
+"""Off-design performance of a designed separate-exhaust turbofan, matched without component maps."""
+
+import numpy as np
+import openmdao.api as om
+
+from bypassopt.components.coupled_solver import set_coupled_solvers
+from bypassopt.components.options import declare_gas, declare_num_nodes
+
+from .cycle_group import TurbofanCycleGroup
+from .flow_capacity_comp import FlowCapacityComp
+
+#: Engine geometry an off-design point holds: FlowCapacityComp output -> (units, description).
+GEOMETRY = {
+    "W4_corrected": ("kg/s", "HPT nozzle-guide-vane flow capacity (corrected flow at station 4)"),
+    "W45_corrected": ("kg/s", "LPT nozzle-guide-vane flow capacity (corrected flow at station 45)"),
+    "area8": ("m**2", "core nozzle geometric throat area"),
+    "area18": ("m**2", "bypass nozzle geometric throat area"),
+    "booster_temperature_rise_ratio": (None, "booster to fan core-side temperature-rise ratio"),
+}
+
+#: Newton states and their design-point start values: state -> (units, lower bound, upper bound, default).
+STATES = {
+    "FPR": (None, 1.0 + 1e-6, 4.0, 1.5),
+    "OPR": (None, 2.0, 100.0, 40.0),
+    "BPR": (None, 0.5, 30.0, 10.0),
+    "booster_PR": (None, 1.0, 6.0, 1.8),
+    "Fn": ("N", 1.0, 1.0e7, 24.0e3),
+    "Tt4": ("K", 500.0, 2400.0, 1650.0),
+}
+
+#: Newton tolerances: the match residuals are normalised (BalanceComp), so these are near-relative.
+NEWTON_ATOL = 1e-8
+NEWTON_RTOL = 1e-12
+NEWTON_MAXITER = 25
+LINESEARCH_MAXITER = 10
+
+#: Constant-gamma start-value relations (guess_nonlinear only): gamma, polytropic efficiency, Tt4/Tt41.
+GUESS_GAMMA = 1.4
+GUESS_EFF_POLY = 0.9
+GUESS_T4_OVER_T41 = 1.03
+GUESS_SWEEPS = 4
+
+
+class OffDesignGroup(om.Group):
+    r"""Off-design (part-power, other flight condition) match of a designed turbofan, map-free.
+
+    The cycle elements are those of the design point (``TurbofanCycleGroup`` with ``solve_sizing=False``,
+    same gas model, fuel bookkeeping and convergent nozzles); the engine geometry enters as inputs
+    ``<name>_design`` from a design run's ``FlowCapacityComp`` (``FlowCapacityComp`` outputs at the design
+    point): HPT and LPT nozzle-guide-vane flow capacities ``W4_corrected_design``,
+    ``W45_corrected_design``, nozzle throat areas ``area8_design``, ``area18_design`` and the booster
+    temperature-rise ratio ``booster_temperature_rise_ratio_design``.
+
+    **Map-free method** (field-reference 12.2; Mattingly & von Ohain, *Elements of Propulsion*, engine
+    performance analysis, from memory): every component polytropic efficiency, pressure loss, nozzle
+    coefficient, mechanical efficiency and extraction is held at its design value (they stay inputs; the
+    user sets the design values); the turbine cooling fractions are held at the design point's
+    (``cooling_model='given'``: set ``hpt_vane_cooling_frac``/``hpt_rotor_cooling_frac`` to the design run's
+    ``cooling_frac_vane``/``cooling_frac_rotor``; the cooling holes are geometry too). The match is then
+    fixed by continuity through the fixed throats, solved by Newton (``om.NewtonSolver``,
+    ``om.DirectSolver``) with ``om.BalanceComp`` residuals (normalised by the design value):
+
+    ========================================  ===========================================================
+    residual                                  physics
+    ========================================  ===========================================================
+    ``W4_corrected = W4_corrected_design``    HPT NGVs choked: W4 sqrt(Tt4)/Pt4 fixed (12.2 item 1)
+    ``W45_corrected = W45_corrected_design``  LPT NGVs choked: W45 sqrt(Tt45)/Pt45 fixed (12.2 item 1)
+    ``area8 = area8_design``                  core nozzle throat: continuity 5 -> 8, choked or not
+                                              (12.2 item 2; NozzleComp's area is C1 across choking)
+    ``area18 = area18_design``                bypass nozzle throat, choked or not (12.2 item 5)
+    booster rule (below)                      LP spool schedules the booster
+    ``Tt41 = Tt41_required``                  only with ``power_setting='Tt41'``
+    ========================================  ===========================================================
+
+    States: ``FPR``, ``OPR``, ``BPR``, ``booster_PR``, and the engine flow. The elements work per unit
+    inlet flow and ``W2`` follows from the sizing element as ``Fn/Fn_specific``, so the state that carries
+    ``W2`` is the net thrust ``Fn`` (``power_setting`` 'Tt4' and 'Tt41'; output ``W2``). With
+    ``power_setting='thrust'`` the net thrust is the input ``Fn_required`` and ``Tt4`` is the state;
+    with 'Tt41', ``Tt4`` is a state balanced to the input ``Tt41_required``; with 'Tt4', ``Tt4`` is an input.
+    The spool balances (fan + booster on the LPT, HPC + offtake on the HPT) are the design elements'
+    (turbine work from the spool power demand), so the capacities close the loop: for a calorically perfect
+    gas the HPT temperature ratio is fixed by the two choked NGVs, the LPT's too when the core nozzle is
+    choked, and the HPC temperature ratio follows
+    :math:`\tau_{cH} - 1 = (\tau_{cH,R} - 1)(T_{t4}/T_{t25})/(T_{t4}/T_{t25})_R` (12.2 items 1-3).
+
+    **Booster rule** (common practice; fan and booster on one LP spool, their temperature rises scale
+    together with the spool speed squared, no booster map): the booster temperature-rise ratio is held at
+    design,
+
+    .. math:: \frac{\tau_b - 1}{\tau_{fc} - 1} = \frac{\tau_{b,R} - 1}{\tau_{fc,R} - 1}, \qquad
+              \tau_b = T_{t25}/T_{t21},\ \tau_{fc} = T_{t21}/T_{t2},
+
+    i.e. :math:`(\tau_b - 1) = (\tau_{b,R} - 1)(\tau_{fc} - 1)/(\tau_{fc,R} - 1)` with the fan core-side
+    temperature ratio. The fan core-side pressure ratio equals ``FPR`` (``fan_core_side_ratio='equal'``).
+
+    Start values: with ``start_from_design=True`` (default) every Newton solve starts from the design
+    point, the inputs ``FPR_design``, ``OPR_design``, ``BPR_design``, ``booster_PR_design``, ``Tt4_design``,
+    ``Fn_design`` (``guess_nonlinear``; not under complex step). They do not change the solution.
+
+    Flight condition per node: ``altitude``, ``Mach0``, ``dT_isa``. Outputs as ``TurbofanCycleGroup``
+    (stations, ``TSFC``, ``W2``, ``fuel_flow``, ``Tt41``, ``Tt3``) plus ``Fn`` and the current capacities.
+    Valid where the NGVs stay choked (turbine expansion ratios above about 1.85; not checked, a
+    limitation of the map-free method) and the design elements' ranges hold; a point that cannot be
+    matched raises ``om.AnalysisError`` (Newton not converged, or an element's ``InputRangeError`` naming
+    the cause), never NaN.
+    """
+
+    def initialize(self):
+        """Declare options."""
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
+        self.options.declare("power_setting", default="Tt4", values=("Tt4", "Tt41", "thrust"),
+                             desc="what sets the power: burner exit temperature Tt4 (input), HPT rotor inlet "
+                                  "temperature (input Tt41_required) or net thrust (input Fn_required)")
+        self.options.declare("include_fuel_mass", types=bool, default=True,
+                             desc="include the fuel mass in the flows (as the design point)")
+        self.options.declare("start_from_design", types=bool, default=True,
+                             desc="start every Newton solve from the design-point values (inputs *_design)")
+
+    def setup(self):
+        """Assemble the cycle, the capacities and the match balances."""
+        nn = self.options["num_nodes"]
+        setting = self.options["power_setting"]
+        ones = np.ones(nn)
+        cycle = TurbofanCycleGroup(num_nodes=nn, gas=self.options["gas"],
+                                   include_fuel_mass=self.options["include_fuel_mass"],
+                                   cooling_model="given", solve_sizing=False, turbine_temperature_input="Tt4")
+        promotes = ["*"] if setting == "thrust" else ["*", ("Fn_required", "Fn")]
+        self.add_subsystem("cycle", cycle, promotes=promotes)
+        self.add_subsystem("capacity", FlowCapacityComp(num_nodes=nn), promotes=["*"])
+
+        match = om.BalanceComp()
+        pairs = [("FPR", "W45_corrected"), ("OPR", "W4_corrected"), ("BPR", "area18"),
+                 ("booster_PR", "booster_temperature_rise_ratio")]
+        pairs.append(("Tt4", "area8") if setting == "thrust" else ("Fn", "area8"))
+        for state, lhs in pairs:
+            units, lower, upper, default = STATES[state]
+            eq_units, desc = GEOMETRY[lhs]
+            match.add_balance(state, units=units, eq_units=eq_units, lhs_name=lhs, rhs_name=f"{lhs}_design",
+                              rhs_val=ones, val=default * ones, lower=lower, upper=upper, normalize=True,
+                              desc=f"off-design {state} that holds the {desc} at its design value")
+        if setting == "Tt41":
+            units, lower, upper, default = STATES["Tt4"]
+            match.add_balance("Tt4", units=units, eq_units="K", lhs_name="Tt41", rhs_name="Tt41_required",
+                              rhs_val=1600.0 * ones, val=default * ones, lower=lower, upper=upper,
+                              desc="burner exit temperature that gives the requested rotor inlet temperature")
+        for state, (units, _, _, default) in STATES.items():
+            match.add_input(f"{state}_design", val=default * ones, units=units,
+                            desc=f"design-point {state}: the Newton start value (no effect on the solution)")
+        match.add_input("Tt2_design", val=260.0 * ones, units="K",
+                        desc="design-point fan-face total temperature: for the start value only")
+        match.add_input("Pt2_design", val=3.5e4 * ones, units="Pa",
+                        desc="design-point fan-face total pressure: for the start value only")
+        self.add_subsystem("match", match, promotes=["*"])
+
+        if setting == "Tt4":
+            self.set_input_defaults("Tt4", 1650.0 * ones, units="K")
+        if setting != "thrust":
+            self.set_input_defaults("Fn", 24.0e3 * ones, units="N")
+
+        set_coupled_solvers(self, "newton", nn, maxiter=NEWTON_MAXITER)
+        newton = self.nonlinear_solver
+        newton.options["atol"] = NEWTON_ATOL * np.sqrt(nn)
+        newton.options["rtol"] = NEWTON_RTOL
+        # A Gauss-Seidel pass in flow order at every iteration keeps the explicit elements consistent with the
+        # states, so the residual norm is that of the balances and the W2 <-> offtake loop.
+        newton.options["max_sub_solves"] = NEWTON_MAXITER
+        # Backtracking line search that also backs off from an element's AnalysisError (a nozzle pressure ratio
+        # below 1 on the way). Its first trial is judged without the Gauss-Seidel pass (explicit outputs not yet
+        # recomputed), so it is taken at twice the Newton step and always rejected; the full step is then the
+        # first trial judged on the consistent residual.
+        newton.linesearch = om.ArmijoGoldsteinLS(bound_enforcement="scalar", retry_on_analysis_error=True,
+                                                 alpha=2.0, rho=0.5, c=0.1, maxiter=LINESEARCH_MAXITER, iprint=-1)
+
+    def guess_nonlinear(self, inputs, outputs, residuals):
+        r"""Start the Newton solve from the design point moved along the map-free trends (skipped under cs).
+
+        With ``start_from_design`` the states restart at every solve from the design values, moved to the
+        flight condition and power with the constant-gamma relations of field-reference 12.2 (gamma 1.4, a
+        typical polytropic efficiency 0.9; a start value only, the solution does not depend on it): with the
+        core temperature ratio :math:`\theta = (T_{t4}/T_{t2})/(T_{t4}/T_{t2})_R`, the fan and HPC
+        temperature rises scale with it (items 3-4), the booster's follows the booster rule, the bypass ratio
+        follows core continuity (item 5, nozzle flow functions taken as at design) and the net thrust the
+        fan-face pressure. In the 'thrust' setting the start is the design's corrected point
+        (:math:`\theta = 1`, Tt4 scaled with Tt2); in 'Tt41' Tt4 starts 3 % above the requested Tt41.
+        A design-point start at a much lower Tt4 is often not an operating point at all (the turbines cannot
+        drive the design compressors), which is why the states are moved.
+        """
+        if self.under_complex_step or not self.options["start_from_design"]:
+            return
+        # the flight condition is explicit and upstream of every state: evaluate it for the fan-face state
+        # (InletComp: Tt2 = Tt0, Pt2 = inlet_recovery*Pt0; the inlet's own inputs are not transferred yet)
+        self.cycle.flight.run_solve_nonlinear()
+        setting = self.options["power_setting"]
+        tt2 = np.real(outputs["Tt0"])
+        pt2 = np.real(outputs["Pt0"] * inputs["inlet_recovery"])
+        ratio_t2 = tt2 / np.real(inputs["Tt2_design"])
+        tt4_r = np.real(inputs["Tt4_design"])
+        if setting == "thrust":
+            tt4 = tt4_r * ratio_t2
+        elif setting == "Tt41":
+            tt4 = GUESS_T4_OVER_T41 * np.real(inputs["Tt41_required"])
+        else:
+            tt4 = np.real(inputs["cycle.burner.Tt4"])
+        theta = tt4 / tt4_r / ratio_t2
+        k = (GUESS_GAMMA - 1.0) / (GUESS_GAMMA * GUESS_EFF_POLY)
+        fpr_r, opr_r, pib_r = (np.real(inputs[f"{n}_design"]) for n in ("FPR", "OPR", "booster_PR"))
+        tau_f_r, tau_b_r = fpr_r**k, pib_r**k
+        tau_c_r = (opr_r / (fpr_r * pib_r)) ** k
+        bpr_r = np.real(inputs["BPR_design"])
+        bpr = bpr_r
+        for _ in range(GUESS_SWEEPS):  # items 3-5 depend on each other: a few fixed-point sweeps
+            tau_f = 1.0 + (tau_f_r - 1.0) * theta * (1.0 + bpr_r) / (1.0 + bpr)
+            tau_b = 1.0 + (tau_b_r - 1.0) * (tau_f - 1.0) / (tau_f_r - 1.0)
+            tau_c = 1.0 + (tau_c_r - 1.0) * theta * (tau_f_r * tau_b_r) / (tau_f * tau_b)
+            fpr, pib, pic = tau_f ** (1.0 / k), tau_b ** (1.0 / k), tau_c ** (1.0 / k)
+            bpr = bpr_r * (opr_r / fpr_r) / (pib * pic) * np.sqrt(theta * tau_f_r / tau_f)
+        guess = {"FPR": fpr, "booster_PR": pib, "OPR": fpr * pib * pic, "BPR": bpr}
+        if setting != "thrust":
+            guess["Fn"] = np.real(inputs["Fn_design"]) * pt2 / np.real(inputs["Pt2_design"])
+        if setting != "Tt4":
+            guess["Tt4"] = tt4
+        for state, value in guess.items():
+            _, lower, upper, _ = STATES[state]
+            outputs[state] = np.clip(value, lower, upper)
