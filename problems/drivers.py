@@ -205,7 +205,12 @@ class BackOffSLSQPDriver(Driver):
             return self._grad
         _, _, ok = self._evaluate(x)
         if not ok:  # asked at a failed point: the last good point's derivatives keep SLSQP going
-            self._evaluate(self._last_good[2])
+            if self._last_good_grad is not None and self._last_good_grad[0] == self._last_good[2].tobytes():
+                return self._last_good_grad[1]
+            _, _, ok = self._evaluate(self._last_good[2])
+            if not ok:  # the model no longer evaluates there (a solve that depends on its start): give up
+                raise om.AnalysisError(f"{self._get_name()}: the last evaluable design no longer evaluates "
+                                       f"({self.failures[-1]['message']})")
             return self._gradients(self._last_good[2])
         prob = self._problem()
         self.derivative_evaluations += 1
@@ -228,6 +233,8 @@ class BackOffSLSQPDriver(Driver):
             blocks.extend(sign * jac for sign, _ in self._con_sides(name))
         jac_g = np.vstack(blocks) if blocks else np.zeros((0, grad_f.size))
         self._grad_key, self._grad = key, (grad_f, jac_g)
+        if self._last_good is not None and key == self._last_good[2].tobytes():
+            self._last_good_grad = (key, self._grad)
         return self._grad
 
     @property
@@ -318,6 +325,7 @@ class BackOffSLSQPDriver(Driver):
         self.start_moved = None
         self._cache_key = self._grad_key = None
         self._last_good = None
+        self._last_good_grad = None
         self._moving_start = False
         self._iterations = 0
 

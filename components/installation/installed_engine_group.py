@@ -95,20 +95,31 @@ class InstalledEngineGroup(om.Group):
         is known) and ``W2`` (read by the HP spool balance through the offtake per unit flow); every other
         output is recomputed from them by the solver's first Gauss-Seidel pass. Before the first solve and
         after a failed one (the group's solver records it, ``coupled_solver.last_solve_succeeded``) they are
-        set from the inputs alone: ``Fn_required = thrust_required (1 + NACELLE_DRAG_FRACTION_GUESS)`` and
-        ``W2 = Fn_required / FN_SPECIFIC_GUESS``. So a failed run (an absurd thrust) leaves nothing behind,
-        and a problem gives the same result as a fresh one. After a converged solve the solution is kept as
-        the start (a warm start is about five times faster), with ``Fn_required`` reset when it no longer
-        lies between the new thrust requirement and twice it. Nothing is done under complex step.
+        set from the last converged solution, scaled by the ratio of the thrust requirements (near the edge of
+        the evaluable region, where a poor start can cross it on the way, this is the safer start), or, before
+        any converged solve, from the inputs alone: ``Fn_required = thrust_required (1 +
+        NACELLE_DRAG_FRACTION_GUESS)`` and ``W2 = Fn_required / FN_SPECIFIC_GUESS``. So a failed run (an
+        absurd thrust) leaves nothing behind, and a problem gives the same result as a fresh one. After a
+        converged solve the solution is kept as the start (a warm start is about five times faster),
+        with ``Fn_required`` reset when it no longer lies between the new thrust requirement and twice it.
+        Nothing is done under complex step.
         """
         if self.under_complex_step:
             return
         thrust = np.real(inputs["thrust_required"])
         fn_guess = thrust * (1.0 + NACELLE_DRAG_FRACTION_GUESS)
         if not last_solve_succeeded(self):
-            outputs["Fn_required"] = fn_guess
-            outputs["W2"] = fn_guess / FN_SPECIFIC_GUESS
+            converged = getattr(self, "_last_converged", None)
+            if converged is not None:  # the last converged solution, scaled to the thrust requirement
+                scale = thrust / converged["thrust_required"]
+                outputs["Fn_required"] = converged["Fn_required"] * scale
+                outputs["W2"] = converged["W2"] * scale
+            else:
+                outputs["Fn_required"] = fn_guess
+                outputs["W2"] = fn_guess / FN_SPECIFIC_GUESS
             return
+        self._last_converged = {"thrust_required": thrust.copy(), "Fn_required": np.real(outputs["Fn_required"]).copy(),
+                                "W2": np.real(outputs["W2"]).copy()}
         fn = np.real(outputs["Fn_required"])
         stale = ~np.isfinite(fn) | (fn < thrust) | (fn > 2.0 * thrust)
         if np.any(stale):

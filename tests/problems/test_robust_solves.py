@@ -162,3 +162,25 @@ def test_every_random_start_returns_the_same_optimum(scenario):
     assert len(fuels) >= MIN_SUCCESS_FRACTION * NUM_STARTS
     assert moved >= 1  # the box holds unevaluable starts, so the move is exercised
     np.testing.assert_allclose(fuels, fuel_ref, rtol=OPTIMUM_RTOL)
+
+
+def test_validity_checks_keep_only_the_last_evaluation_and_nest():
+    """Inside a solve a validity check records; the last evaluation of each (where, name) decides."""
+    from bypassopt.components.validation import (check_range, check_validity, deferred_validity_checks,
+                                                 raise_validity_violations)
+
+    with deferred_validity_checks() as outer:
+        with deferred_validity_checks() as inner:
+            check_validity("D", 5.3, 0.2, 5.0, "m", where="nacelle")  # an iterate: recorded, no raise
+            check_validity("D", 3.8, 0.2, 5.0, "m", where="nacelle")  # the converged value replaces it
+        raise_validity_violations(inner)  # nested: handed to the outer log
+        check_validity("L", 30.0, 0.1, 20.0, "m", where="drag")
+        with pytest.raises(InputRangeError, match="is outside"):
+            check_range("T", -1.0, 0.0, np.inf, "K")  # the math checks still raise at once
+        with pytest.raises(InputRangeError, match="nan"):
+            check_validity("D", np.nan, 0.2, 5.0, "m", where="nacelle")  # and so does a NaN
+    assert outer[("nacelle", "D")] is None
+    with pytest.raises(InputRangeError, match=r"drag: L = 30 m is outside the valid range \(from 0\.1 up to 20 m\)"):
+        raise_validity_violations(outer)
+    with pytest.raises(InputRangeError, match="D = 5.3 m"):  # outside a solve it raises at once
+        check_validity("D", 5.3, 0.2, 5.0, "m", where="nacelle")
