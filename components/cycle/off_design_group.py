@@ -155,8 +155,6 @@ class OffDesignGroup(om.Group):
 
         if setting == "Tt4":
             self.set_input_defaults("Tt4", 1650.0 * ones, units="K")
-        if setting != "thrust":
-            self.set_input_defaults("Fn", 24.0e3 * ones, units="N")
 
         set_coupled_solvers(self, "newton", nn, maxiter=NEWTON_MAXITER)
         newton = self.nonlinear_solver
@@ -167,8 +165,8 @@ class OffDesignGroup(om.Group):
         newton.options["max_sub_solves"] = NEWTON_MAXITER
         # Backtracking line search that also backs off from an element's AnalysisError (a nozzle pressure ratio
         # below 1 on the way). Its first trial is judged without the Gauss-Seidel pass (explicit outputs not yet
-        # recomputed), so it is taken at twice the Newton step and always rejected; the full step is then the
-        # first trial judged on the consistent residual.
+        # recomputed), so it is taken at twice the Newton step, where it is normally rejected; the full step is then
+        # the first trial judged on the consistent residual.
         newton.linesearch = om.ArmijoGoldsteinLS(bound_enforcement="scalar", retry_on_analysis_error=True,
                                                  alpha=2.0, rho=0.5, c=0.1, maxiter=LINESEARCH_MAXITER, iprint=-1)
 
