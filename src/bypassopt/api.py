@@ -10,8 +10,10 @@ from bypassopt.components.cycle.cooling_mix_comp import CoolingMixComp
 from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
 from bypassopt.components.cycle.duct_comp import DuctComp
 from bypassopt.components.cycle.fan_comp import FanComp
+from bypassopt.components.cycle.flow_capacity_comp import FlowCapacityComp
 from bypassopt.components.cycle.inlet_comp import InletComp
 from bypassopt.components.cycle.nozzle_comp import NozzleComp
+from bypassopt.components.cycle.off_design_group import OffDesignGroup
 from bypassopt.components.cycle.performance_comp import PerformanceComp
 from bypassopt.components.cycle.sizing_comp import SizingComp
 from bypassopt.components.cycle.spool_power_comp import SpoolPowerComp
@@ -34,7 +36,8 @@ from bypassopt.components.validation import InputRangeError
 __all__ = [
     "AtmosphereComp", "FlightConditionComp", "FlightConditionGroup", "BurnerComp", "CompressorComp",
     "CoolingBleedComp", "CoolingMixComp", "TurbofanCycleGroup", "DuctComp", "FanComp", "InletComp", "NozzleComp",
-    "PerformanceComp", "SizingComp", "SpoolPowerComp", "TurbineComp", "CaloricallyPerfectGas",
+    "PerformanceComp", "SizingComp", "SpoolPowerComp", "TurbineComp", "FlowCapacityComp", "OffDesignGroup",
+    "CaloricallyPerfectGas",
     "ThermallyPerfectGas", "EngineMassComp", "FanSizingComp", "GroundClearanceComp", "InstalledEngineGroup",
     "InstalledPerformanceComp", "NacelleDragComp", "NacelleGeometryComp", "StatisticalEngineMassComp",
     "MissionFuelComp", "build_best_cycle_problem", "build_evaluation_problem", "kkt_analysis", "ScenarioError",
