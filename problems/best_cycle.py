@@ -197,4 +197,8 @@ def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorde
     apply_scenario(prob, scenario)
     design_vars = {var: scenario["design_variables"][key] for key, (var, _, _, _)
                    in DESIGN_VARIABLES.items() if scenario["design_variables"][key]["optimize"]}
+    if "fallback_design" in prob.driver.options:
+        # a start the model cannot evaluate is moved towards the scenario's initial design (evaluable: the CLI
+        # checks it before optimising) instead of ending the run
+        prob.driver.options["fallback_design"] = {var: dv["initial"] for var, dv in design_vars.items()}
     return prob, BestCycleSettings(scenario=scenario, objective=objective, limits=limits, design_vars=design_vars)
