@@ -184,3 +184,18 @@ def test_validity_checks_keep_only_the_last_evaluation_and_nest():
         raise_validity_violations(outer)
     with pytest.raises(InputRangeError, match="D = 5.3 m"):  # outside a solve it raises at once
         check_validity("D", 5.3, 0.2, 5.0, "m", where="nacelle")
+
+
+def test_best_cycle_problem_moves_an_unevaluable_start_towards_the_initial_design():
+    """A fresh best-cycle problem started where no cycle exists (high FPR and BPR at low OPR: the core jet has
+    no pressure left) still returns its optimum: the start is moved towards the scenario's initial design."""
+    prob, settings = build_best_cycle_problem(reports=False)
+    initial = {var: dv["initial"] for var, dv in settings.design_vars.items()}
+    assert prob.driver.options["fallback_design"] == initial
+    prob.set_val("BPR", 16.0)
+    prob.set_val("FPR", 1.9)
+    prob.set_val("OPR", 25.0)
+    with pytest.raises(om.AnalysisError):
+        prob.run_model()
+    assert prob.run_driver().success
+    assert prob.driver.start_moved["towards"] == {k: [v] for k, v in initial.items()}
