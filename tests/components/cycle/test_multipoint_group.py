@@ -106,3 +106,13 @@ def test_bad_options():
         build({"design": TOP_OF_CLIMB, "cruise": CRUISE}, cooling_point="takeoff")
     with pytest.raises(ValueError, match="off_design_points"):
         MultipointEngineGroup(off_design_points=("design",))
+
+
+def test_nodes_are_independent_designs(demo):
+    """Two engine designs at once (num_nodes=2): each node equals its own single-design run."""
+    prob = build({"design": TOP_OF_CLIMB, "takeoff": TAKEOFF, "cruise": CRUISE}, nn=2)
+    prob.set_val("Tt4", np.array([CYCLE["Tt4"], 1600.0]))
+    prob.run_model()
+    for k in ("takeoff:Tt41", "takeoff:Tt3", "cruise:TSFC", "design:TSFC", "cooling_frac_vane"):
+        np.testing.assert_allclose(prob.get_val(k)[0], demo.get_val(k)[0], rtol=DESIGN_RTOL, err_msg=k)
+    assert prob.get_val("takeoff:Tt41")[1] < prob.get_val("takeoff:Tt41")[0] - 1.0  # larger engine: cooler take-off
