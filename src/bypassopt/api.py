@@ -12,6 +12,7 @@ from bypassopt.components.cycle.duct_comp import DuctComp
 from bypassopt.components.cycle.fan_comp import FanComp
 from bypassopt.components.cycle.flow_capacity_comp import FlowCapacityComp
 from bypassopt.components.cycle.inlet_comp import InletComp
+from bypassopt.components.cycle.multipoint_group import MultipointEngineGroup
 from bypassopt.components.cycle.nozzle_comp import NozzleComp
 from bypassopt.components.cycle.off_design_group import OffDesignGroup
 from bypassopt.components.cycle.performance_comp import PerformanceComp
@@ -37,6 +38,7 @@ __all__ = [
     "AtmosphereComp", "FlightConditionComp", "FlightConditionGroup", "BurnerComp", "CompressorComp",
     "CoolingBleedComp", "CoolingMixComp", "TurbofanCycleGroup", "DuctComp", "FanComp", "InletComp", "NozzleComp",
     "PerformanceComp", "SizingComp", "SpoolPowerComp", "TurbineComp", "FlowCapacityComp", "OffDesignGroup",
+    "MultipointEngineGroup",
     "CaloricallyPerfectGas",
     "ThermallyPerfectGas", "EngineMassComp", "FanSizingComp", "GroundClearanceComp", "InstalledEngineGroup",
     "InstalledPerformanceComp", "NacelleDragComp", "NacelleGeometryComp", "StatisticalEngineMassComp",
