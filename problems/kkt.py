@@ -8,7 +8,7 @@ import numpy as np
 ACTIVE_TOL = 1e-4
 
 
-def kkt_analysis(prob, settings, active_tol=ACTIVE_TOL):
+def kkt_analysis(prob, settings, active_tol=ACTIVE_TOL, method="auto"):
     """Lagrange multipliers, shadow prices and KKT residuals at the current point of a best-cycle problem.
 
     ``prob`` and ``settings`` are what ``build_best_cycle_problem`` returned.
@@ -19,7 +19,11 @@ def kkt_analysis(prob, settings, active_tol=ACTIVE_TOL):
         grad f + sum_i lambda_i grad c_i = 0,   lambda_i >= 0,   lambda_i c_i = 0
 
     (Nocedal and Wright, *Numerical Optimization*, 2nd ed., theorem 12.1). The multipliers of the
-    active limits are found by least squares from the analytic total derivatives; inactive ones are 0.
+    active limits come from OpenMDAO's own estimate (``Driver.compute_lagrange_multipliers``, OpenMDAO >= 3.39,
+    a least-squares solve of the same system) where the installed OpenMDAO has it and finds the same active
+    set; otherwise
+    (``method='least_squares'``, older OpenMDAO, or a different active set) they are found here by least
+    squares from the analytic total derivatives. Inactive ones are 0. ``multiplier_source`` says which.
     A multiplier is the shadow price of its limit: relaxing the limit by one unit lowers the optimum
     objective by lambda (to first order), i.e. d f*/d U = -lambda for an upper limit U and
     d f*/d L = +lambda for a lower limit L.
@@ -33,9 +37,11 @@ def kkt_analysis(prob, settings, active_tol=ACTIVE_TOL):
         such a point is no optimum, and its multipliers and shadow prices mean nothing),
         ``bounds`` {design var: {value, lower, upper, active, multiplier}}, ``projected_gradient`` (norm of
         the Lagrangian gradient, each component times its design variable's bound range, relative
-        to |f|) and ``complementarity`` (largest
-        |lambda_i c_i| relative to |f|).
+        to |f|), ``complementarity`` (largest |lambda_i c_i| relative to |f|) and ``multiplier_source``
+        ('openmdao' or 'least_squares').
     """
+    if method not in ("auto", "least_squares"):
+        raise ValueError(f"method = {method!r} is not one of 'auto', 'least_squares'")
     from .best_cycle import OBJECTIVES
 
     objective = settings.objective
@@ -82,6 +88,11 @@ def kkt_analysis(prob, settings, active_tol=ACTIVE_TOL):
         lam, *_ = np.linalg.lstsq(A.T, -grad_f, rcond=None)
     else:
         A, lam = np.zeros((0, len(dv_names))), np.zeros(0)
+    source = "least_squares"
+    if method == "auto" and rows:
+        own = _openmdao_multipliers(prob, names, info, bounds, obj_name, obj_units, active_tol)
+        if own is not None:
+            lam, source = own, "openmdao"
     for (kind, name), mult in zip(names, lam):
         if kind == "con":
             info[name]["multiplier"] = float(mult)
@@ -105,7 +116,53 @@ def kkt_analysis(prob, settings, active_tol=ACTIVE_TOL):
         "gradient_norm": float(np.linalg.norm(grad_f)),
         "complementarity": float(compl),
         "dual_feasible": bool(np.all(lam >= -1e-6 * max(1.0, np.max(np.abs(lam), initial=0.0)))),
+        "multiplier_source": source,
     }
+
+
+def _model_units(prob, name):
+    """Units of an output (by promoted name) in the model."""
+    meta = prob.model.get_io_metadata(metadata_keys=["units"], iotypes="output")
+    return next((m["units"] for m in meta.values() if m["prom_name"] == name), None)
+
+
+def _factor(from_units, to_units):
+    from openmdao.utils.units import unit_conversion
+
+    if not from_units or not to_units or from_units == to_units:
+        return 1.0
+    return unit_conversion(from_units, to_units)[0]
+
+
+def _openmdao_multipliers(prob, names, info, bounds, obj_name, obj_units, active_tol):
+    """Multipliers of the active limits, in this module's convention, from ``Driver.compute_lagrange_multipliers``.
+
+    Returns None when the installed OpenMDAO lacks the method, it fails, or it finds another active set.
+    OpenMDAO's unscaled multipliers are d(objective)/d(bound) in the model's units, negative for a lower
+    bound; here every limit is c <= 0 with a multiplier >= 0 at a minimum, in objective units per limit unit.
+    """
+    driver = prob.driver
+    if not hasattr(driver, "compute_lagrange_multipliers"):
+        return None
+    try:
+        om_dvs, om_cons = driver.compute_lagrange_multipliers(driver_scaling=False, feas_tol=active_tol)
+    except Exception:  # noqa: BLE001 - any failure of the optional estimate falls back to least squares
+        return None
+    active_cons = {n for kind, n in names if kind == "con"}
+    active_bounds = {n for kind, n in names if kind == "bound"}
+    if set(om_cons) != active_cons or set(om_dvs) != active_bounds:
+        return None
+    to_obj = _factor(_model_units(prob, obj_name), obj_units)
+    lam = []
+    for kind, name in names:
+        if kind == "con":
+            theirs = float(np.ravel(om_cons[name]["multipliers"])[0]) * to_obj
+            theirs /= _factor(_model_units(prob, name), info[name]["units"])
+            lam.append(theirs if info[name]["kind"] == "upper" else -theirs)
+        else:
+            theirs = float(np.ravel(om_dvs[name]["multipliers"])[0]) * to_obj
+            lam.append(theirs if bounds[name]["active"] == "upper" else -theirs)
+    return np.array(lam)
 
 
 def _total(prob, totals, of, wrt, units):
