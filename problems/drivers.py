@@ -382,6 +382,47 @@ class BackOffSLSQPDriver(Driver):
         return not bool(result.success)
 
 
+def run_record(driver, driver_result):
+    """Return what a driver's last run did, the same way for every driver (success, message, counts).
+
+    ``BackOffSLSQPDriver`` keeps SciPy's result (``optimizer_result``) and its own counts; ``om.pyOptSparseDriver``
+    keeps pyOptSparse's solution (``pyopt_solution``: its ``optInform`` text) and OpenMDAO's DriverResult, whose
+    ``iter_count`` counts model evaluations (pyOptSparse reports no iteration count of its own).
+
+    Parameters
+    ----------
+    driver : om.Driver
+        The driver after ``run_driver``.
+    driver_result : DriverResult or bool
+        What ``run_driver`` returned (a failure flag before OpenMDAO 3.27).
+
+    Returns
+    -------
+    dict
+        ``success``, ``message``, ``iterations`` (None where the optimizer does not report them),
+        ``model_evaluations``, ``failed_evaluations``.
+    """
+    if isinstance(driver_result, (bool, np.bool_)):
+        success = not bool(driver_result)
+    else:
+        success = bool(driver_result.success)
+    own = getattr(driver, "optimizer_result", None)
+    if own is not None:
+        return {"success": success, "message": str(own.message), "iterations": int(own.nit),
+                "model_evaluations": driver.model_evaluations, "failed_evaluations": driver.failed_evaluations}
+    solution = getattr(driver, "pyopt_solution", None)
+    inform = getattr(solution, "optInform", None) if solution is not None else None
+    if isinstance(inform, dict):  # older pyOptSparse: {"value": ..., "text": ...}
+        message = str(inform.get("text", ""))
+    else:  # pyOptSparse 2.x: a SolutionInform with .message
+        message = str(getattr(inform, "message", "") or "")
+    if not message:
+        message = str(getattr(driver_result, "exit_status", ""))
+    evaluations = int(getattr(driver_result, "model_evals", getattr(driver, "iter_count", 0)))
+    return {"success": success, "message": message, "iterations": None, "model_evaluations": evaluations,
+            "failed_evaluations": None}
+
+
 def pyoptsparse_available(optimizer=None):
     """Return True when pyoptsparse imports (and, if named, its ``optimizer`` loads; IPOPT needs cyipopt).
 

@@ -6,6 +6,7 @@ from openmdao.utils.units import unit_conversion
 from dataclasses import replace
 
 from bypassopt.problems.best_cycle import OBJECTIVES, build_best_cycle_problem
+from bypassopt.problems.drivers import run_record
 from bypassopt.problems.kkt import kkt_analysis
 from bypassopt.scenario import SCHEMA, ScenarioError, load_scenario, validate
 
@@ -159,8 +160,8 @@ class _TradeSolver:
         if start is not None:
             for name, val in start.items():
                 prob.set_val(name, val, units="K" if name == "Tt4" else None)
-        success = bool(prob.run_driver().success)
-        result = prob.driver.optimizer_result
+        record = run_record(prob.driver, prob.run_driver())
+        success = record["success"]
         kkt = kkt_analysis(prob, settings)
         sens = limit_sensitivity(prob, settings, kkt, limit) if success else float("nan")
         degenerate = active_set_degenerate(prob, settings, kkt)
@@ -171,8 +172,8 @@ class _TradeSolver:
         return {
             "value": float(value),
             "success": success,
-            "message": str(result.message),
-            "iterations": int(result.nit),
+            "message": record["message"],
+            "iterations": record["iterations"],
             "objective": kkt["objective"]["value"],
             "design": design,
             "start": {name: design[name] for name in settings.design_vars},

@@ -268,9 +268,9 @@ def _driver_message(driver):
         return str(res.message)
     sol = getattr(driver, "pyopt_solution", None)
     inform = getattr(sol, "optInform", None) if sol is not None else None
-    if isinstance(inform, dict) and inform.get("text"):
-        return str(inform["text"])
-    return ""
+    if isinstance(inform, dict):  # older pyOptSparse
+        return str(inform.get("text", ""))
+    return str(getattr(inform, "message", "") or "")  # pyOptSparse 2.x: SolutionInform
 
 
 def _driver_name(driver):

@@ -330,3 +330,18 @@ def test_cli_optimize_with_ipopt_and_pyoptsparse_slsqp(how, optimum, require_pyo
     if HAVE_MATPLOTLIB:
         for png in ("convergence.png", "carpet.png"):
             assert (res / png).read_bytes()[:8] == b"\x89PNG\r\n\x1a\n", png
+
+
+def test_trade_curve_runs_with_ipopt(optimum, require_pyoptsparse, workdir):
+    """The trade study re-optimises with the scenario's driver: with IPOPT it reaches SciPy SLSQP's optimum where
+    the swept nacelle-diameter limit does not bind, and reports the run the same way (message, evaluations)."""
+    require_pyoptsparse("IPOPT")
+    from bypassopt.problems.trade_curve import run_trade_curve
+    from bypassopt.scenario import load_scenario, validate
+
+    scenario = validate({"optimizer": {"driver": "IPOPT"}}, base=load_scenario())
+    result = run_trade_curve(scenario, "max_nacelle_diameter_m", [2.2, 2.4], refine=0)
+    assert all(p["success"] for p in result["points"])
+    slack = result["points"][-1]
+    np.testing.assert_allclose(slack["objective"], optimum("SLSQP").fuel, rtol=FUEL_RTOL)
+    assert slack["iterations"] is None and slack["message"]
