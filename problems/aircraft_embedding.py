@@ -310,7 +310,8 @@ def apply_scenario_to_aircraft(prob, scenario):
         prob.set_val(target, np.full(nn, float(value)), units=units)
 
 
-def build_embedding_problem(optimize=True, scenario=None, reports=OPENMDAO_DEFAULT, force_alloc_complex=False):
+def build_embedding_problem(optimize=True, scenario=None, reports=OPENMDAO_DEFAULT, force_alloc_complex=False,
+                            driver=None):
     """Ready aircraft-sizing problem with the installed engine embedded (set up, scenario applied, not run).
 
     With ``optimize=True`` it minimises the design-mission fuel over BPR, FPR, OPR (the scenario's
@@ -330,6 +331,9 @@ def build_embedding_problem(optimize=True, scenario=None, reports=OPENMDAO_DEFAU
         Passed to ``om.Problem``; left out, OpenMDAO's default applies.
     force_alloc_complex : bool
         Allocate complex vectors (only for complex-step checks).
+    driver : str or None
+        Optimizer ('SLSQP', 'IPOPT', 'pyoptsparse-SLSQP', 'SNOPT'; see ``make_driver``); None takes the
+        scenario's ``[optimizer] driver``.
     """
     scenario = scenario or load_scenario()
     model = AircraftSizingGroup(num_engines=scenario["aircraft"]["num_engines"])
@@ -337,7 +341,7 @@ def build_embedding_problem(optimize=True, scenario=None, reports=OPENMDAO_DEFAU
     model = prob.model
     if optimize:
         opt = scenario["optimizer"]
-        prob.driver = make_driver("SLSQP", opt["maxiter"], opt["tol"])
+        prob.driver = make_driver(driver or opt["driver"], opt["maxiter"], opt["tol"])
         for key in ("BPR", "FPR", "OPR"):
             var = DESIGN_VARIABLES[key][0]
             dv = scenario["design_variables"][key]

@@ -345,3 +345,17 @@ def test_trade_curve_runs_with_ipopt(optimum, require_pyoptsparse, workdir):
     slack = result["points"][-1]
     np.testing.assert_allclose(slack["objective"], optimum("SLSQP").fuel, rtol=FUEL_RTOL)
     assert slack["iterations"] is None and slack["message"]
+
+
+def test_embedding_problem_runs_with_ipopt(require_pyoptsparse, workdir):
+    """The aircraft-level embedding problem (engine inside an aircraft sizing loop) optimises with IPOPT to the
+    same mission fuel as with SciPy SLSQP, within the optimizers' tolerances."""
+    require_pyoptsparse("IPOPT")
+    from bypassopt.problems.aircraft_embedding import build_embedding_problem
+
+    fuels = {}
+    for driver in ("SLSQP", "IPOPT"):
+        prob = build_embedding_problem(optimize=True, driver=driver, reports=False)
+        assert prob.run_driver().success, driver
+        fuels[driver] = float(prob.get_val("mission_fuel", units="kg")[0])
+    np.testing.assert_allclose(fuels["IPOPT"], fuels["SLSQP"], rtol=FUEL_RTOL)
