@@ -3,6 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.ranges import INPUT_RANGES, range_kwargs
 from bypassopt.components.validation import check_range
 from bypassopt.components.options import declare_num_nodes
 
@@ -27,8 +28,8 @@ SUTHERLAND_S = 110.4
 
 H_TROPOPAUSE = 11000.0
 """Geopotential altitude of the tropopause, m."""
-H_MAX = 20000.0
-"""Upper end of the modelled range (base of the second stratospheric layer), m."""
+H_MAX = INPUT_RANGES["altitude"][1]
+"""Upper end of the modelled range (base of the second stratospheric layer), 20 km (``INPUT_RANGES``)."""
 T_TROPOPAUSE = T_SL + LAPSE_RATE * H_TROPOPAUSE
 """Temperature of the isothermal layer 11-20 km, 216.65 K."""
 _EXPONENT = -G0 / (LAPSE_RATE * R_AIR)
@@ -37,8 +38,8 @@ P_TROPOPAUSE = P_SL * (T_TROPOPAUSE / T_SL) ** _EXPONENT
 """Pressure at 11 km as the closed-form continuation of the troposphere, 22632.04 Pa (the standard
 tabulates the rounded value 22632.1 Pa)."""
 
-DT_ISA_MAX = 60.0
-"""Largest accepted magnitude of the temperature offset from standard, K."""
+DT_ISA_MAX = INPUT_RANGES["dT_isa"][1]
+"""Largest accepted magnitude of the temperature offset from standard, 60 K (``INPUT_RANGES``)."""
 
 
 class AtmosphereComp(om.ExplicitComponent):
@@ -123,8 +124,8 @@ class AtmosphereComp(om.ExplicitComponent):
         """Evaluate the standard atmosphere at every node."""
         H = inputs["altitude"]
         dT = inputs["dT_isa"]
-        check_range("altitude", H, 0.0, H_MAX, "m", where=self.pathname)
-        check_range("dT_isa", dT, -DT_ISA_MAX, DT_ISA_MAX, "K", where=self.pathname)
+        check_range("altitude", H, **range_kwargs("altitude"), where=self.pathname)
+        check_range("dT_isa", dT, **range_kwargs("dT_isa"), where=self.pathname)
 
         T_std, _, p, _ = self._standard(H)
         Ts = T_std + dT

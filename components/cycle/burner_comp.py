@@ -4,14 +4,15 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.gas.thermo import DRY_AIR_FAR, CaloricallyPerfectGas
+from bypassopt.components.ranges import INPUT_RANGES, range_kwargs
 from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 TT4_RANGE = (1000.0, 2400.0)
 """Accepted burner exit temperatures with a thermally perfect gas, K (upper end: dissociation)."""
-PRESSURE_LOSS_MAX = 0.2
+PRESSURE_LOSS_MAX = INPUT_RANGES["burner_pressure_loss"][1]
 """Largest accepted burner total-pressure loss fraction, -."""
-LHV_RANGE = (1.0e7, 1.5e8)
+LHV_RANGE = INPUT_RANGES["fuel_LHV"][:2]
 """Accepted fuel lower heating values, J/kg (kerosene 43 MJ/kg; hydrogen about 120 MJ/kg)."""
 
 
@@ -117,10 +118,11 @@ class BurnerComp(om.ExplicitComponent):
         check_range("Tt3", inputs["Tt3"], gas.T_MIN, gas.T_MAX, "K", where=where)
         check_range("Tt4", inputs["Tt4"], max(lo, gas.T_MIN), min(hi, gas.T_MAX), "K", where=where)
         check_range("Pt3", inputs["Pt3"], 0.0, np.inf, "Pa", lower_inclusive=False, where=where)
-        check_range("burner_pressure_loss", inputs["burner_pressure_loss"], 0.0, PRESSURE_LOSS_MAX, "", where=where)
+        check_range("burner_pressure_loss", inputs["burner_pressure_loss"], **range_kwargs("burner_pressure_loss"),
+                    where=where)
         check_range("combustion_eff", inputs["combustion_eff"], 0.0, 1.0, "", lower_inclusive=False,
                     where=where)
-        check_range("fuel_LHV", inputs["fuel_LHV"], *LHV_RANGE, "J/kg", where=where)
+        check_range("fuel_LHV", inputs["fuel_LHV"], **range_kwargs("fuel_LHV"), where=where)
         T3, T4 = np.real(inputs["Tt3"]), np.real(inputs["Tt4"])
         bad = T4 <= T3
         if np.any(bad):

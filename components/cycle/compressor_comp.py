@@ -5,6 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.gas.processes import polytropic_compression
 from bypassopt.components.gas.thermo import DRY_AIR_FAR
+from bypassopt.components.ranges import range_kwargs
 from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
@@ -139,7 +140,7 @@ class CompressorComp(om.ExplicitComponent):
         where = self.pathname
         check_range(n["Tt_in"], inputs[n["Tt_in"]], gas.T_MIN, gas.T_MAX, "K", where=where)
         check_range(n["Pt_in"], inputs[n["Pt_in"]], 0.0, np.inf, "Pa", lower_inclusive=False, where=where)
-        check_range(n["eff"], inputs[n["eff"]], EFF_POLY_MIN, EFF_POLY_MAX, "", where=where)
+        check_range(n["eff"], inputs[n["eff"]], **range_kwargs(n["eff"], EFF_POLY_MIN, EFF_POLY_MAX), where=where)
         if self.options["ratio_from"] == "PR":
             check_range(n["PR"], inputs[n["PR"]], 1.0, PR_MAX, "", where=where)
             return

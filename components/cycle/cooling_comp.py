@@ -3,6 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.ranges import INPUT_RANGES, range_kwargs
 from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
@@ -10,15 +11,15 @@ SMOOTHING = 1e-4
 r"""Square of the width of the smooth non-negative part, :math:`x_+ = (x + \sqrt{x^2 + 10^{-4}})/2`, -."""
 BURNER_AIR_FRAC_MIN = 0.5
 """Smallest share of the core flow that must remain for the burner, -."""
-CUSTOMER_BLEED_MAX = 0.1
+CUSTOMER_BLEED_MAX = INPUT_RANGES["customer_bleed_frac"][1]
 """Largest accepted customer bleed per unit core flow, -."""
 GIVEN_FRAC_MAX = 0.3
 """Largest accepted given cooling fraction per row, -."""
-METAL_TEMPERATURE_RANGE = (900.0, 1700.0)
+METAL_TEMPERATURE_RANGE = INPUT_RANGES["vane_metal_temperature"][:2]
 """Accepted allowable metal temperatures, K (1250-1350 K is common practice, field-reference 6.2)."""
-COOLING_CONSTANT_MAX = 0.5
+COOLING_CONSTANT_MAX = INPUT_RANGES["vane_cooling_constant"][1]
 """Largest accepted cooling constant K per row, -."""
-ROTOR_TEMPERATURE_RATIO_RANGE = (0.7, 1.0)
+ROTOR_TEMPERATURE_RATIO_RANGE = INPUT_RANGES["rotor_relative_temperature_ratio"][:2]
 """Accepted ratio of rotor-relative to absolute total temperature, -."""
 
 
@@ -139,7 +140,7 @@ class CoolingBleedComp(om.ExplicitComponent):
         """Raise InputRangeError for inputs outside the valid range."""
         gas = self.options["gas"]
         where = self.pathname
-        check_range("customer_bleed_frac", inputs["customer_bleed_frac"], 0.0, CUSTOMER_BLEED_MAX, "",
+        check_range("customer_bleed_frac", inputs["customer_bleed_frac"], **range_kwargs("customer_bleed_frac"),
                     where=where)
         if self.options["cooling_model"] == "given":
             for name in ("hpt_vane_cooling_frac", "hpt_rotor_cooling_frac"):
@@ -147,12 +148,9 @@ class CoolingBleedComp(om.ExplicitComponent):
             return
         check_range("Tt3", inputs["Tt3"], gas.T_MIN, gas.T_MAX, "K", where=where)
         check_range("Tt4", inputs["Tt4"], gas.T_MIN, gas.T_MAX, "K", where=where)
-        for name in ("vane_metal_temperature", "rotor_metal_temperature"):
-            check_range(name, inputs[name], *METAL_TEMPERATURE_RANGE, "K", where=where)
-        for name in ("vane_cooling_constant", "rotor_cooling_constant"):
-            check_range(name, inputs[name], 0.0, COOLING_CONSTANT_MAX, "", where=where)
-        check_range("rotor_relative_temperature_ratio", inputs["rotor_relative_temperature_ratio"],
-                    *ROTOR_TEMPERATURE_RATIO_RANGE, "", where=where)
+        for name in ("vane_metal_temperature", "rotor_metal_temperature", "vane_cooling_constant",
+                     "rotor_cooling_constant", "rotor_relative_temperature_ratio"):
+            check_range(name, inputs[name], **range_kwargs(name), where=where)
         Tc = np.atleast_1d(np.real(inputs["Tt3"]))
         for name in ("vane_metal_temperature", "rotor_metal_temperature"):
             Tm = np.atleast_1d(np.real(inputs[name]))

@@ -3,6 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.ranges import range_kwargs
 from bypassopt.components.validation import check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
@@ -75,7 +76,7 @@ class DuctComp(om.ExplicitComponent):
         T_in, P_in, T_out, P_out, loss = self._names()
         check_range(T_in, inputs[T_in], gas.T_MIN, gas.T_MAX, "K", where=self.pathname)
         check_range(P_in, inputs[P_in], 0.0, np.inf, "Pa", lower_inclusive=False, where=self.pathname)
-        check_range(loss, inputs[loss], 0.0, PRESSURE_LOSS_MAX, "", where=self.pathname)
+        check_range(loss, inputs[loss], **range_kwargs(loss, 0.0, PRESSURE_LOSS_MAX), where=self.pathname)
         outputs[T_out] = inputs[T_in]
         outputs[P_out] = inputs[P_in] * (1.0 - inputs[loss])
 

@@ -5,6 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.gas.processes import polytropic_compression
 from bypassopt.components.gas.thermo import DRY_AIR_FAR
+from bypassopt.components.ranges import INPUT_RANGES, range_kwargs
 from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
@@ -12,9 +13,9 @@ FPR_MIN = 1.0
 """FPR must be above this value (a fan compresses), -."""
 FPR_MAX = 4.0
 """Highest accepted fan pressure ratio (single-stage fans of civil turbofans stay well below), -."""
-EFF_POLY_MIN = 0.5
+EFF_POLY_MIN = INPUT_RANGES["fan_bypass_eff_poly"][0]
 """Lowest accepted polytropic efficiency (below it the input is almost certainly a mistake), -."""
-EFF_POLY_MAX = 1.0
+EFF_POLY_MAX = INPUT_RANGES["fan_bypass_eff_poly"][1]
 """Highest accepted polytropic efficiency (isentropic), -."""
 
 
@@ -108,7 +109,7 @@ class FanComp(om.ExplicitComponent):
         if self.options["core_side_ratio"] == "input":
             check_range("fan_core_PR", inputs["fan_core_PR"], 1.0, FPR_MAX, "", where=where)
         for name in ("fan_bypass_eff_poly", "fan_core_eff_poly"):
-            check_range(name, inputs[name], EFF_POLY_MIN, EFF_POLY_MAX, "", where=where)
+            check_range(name, inputs[name], **range_kwargs(name), where=where)
 
     def _compress(self, inputs):
         """Bypass and core-side compressions (values and derivatives)."""

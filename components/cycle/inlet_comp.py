@@ -3,12 +3,13 @@
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.ranges import INPUT_RANGES
 from bypassopt.components.validation import check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
-RECOVERY_MIN = 0.8
+RECOVERY_MIN = INPUT_RANGES["inlet_recovery"][0]
 """Lowest accepted intake total-pressure recovery, -."""
-RECOVERY_MAX = 1.0
+RECOVERY_MAX = INPUT_RANGES["inlet_recovery"][1]
 """Highest accepted intake total-pressure recovery (no loss), -."""
 
 
@@ -59,8 +60,7 @@ class InletComp(om.ExplicitComponent):
         gas = self.options["gas"]
         check_range("Tt0", inputs["Tt0"], gas.T_MIN, gas.T_MAX, "K", where=self.pathname)
         check_range("Pt0", inputs["Pt0"], 0.0, np.inf, "Pa", lower_inclusive=False, where=self.pathname)
-        check_range("inlet_recovery", inputs["inlet_recovery"], RECOVERY_MIN, RECOVERY_MAX, "",
-                    where=self.pathname)
+        check_range("inlet_recovery", inputs["inlet_recovery"], RECOVERY_MIN, RECOVERY_MAX, where=self.pathname)
         outputs["Tt2"] = inputs["Tt0"]
         outputs["Pt2"] = inputs["inlet_recovery"] * inputs["Pt0"]
 

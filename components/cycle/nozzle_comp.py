@@ -5,6 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.gas.flow import sonic
 from bypassopt.components.gas.thermo import DRY_AIR_FAR
+from bypassopt.components.ranges import range_kwargs
 from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
@@ -200,7 +201,7 @@ class NozzleComp(om.ExplicitComponent):
         if self.options["stream"] == "core":
             check_range(n["far"], inputs[n["far"]], 0.0, gas.far_stoich, "", where=where)
         for k in ("Cv", "Cd"):
-            check_range(n[k], inputs[n[k]], 0.0, 1.0, "", lower_inclusive=False, where=where)
+            check_range(n[k], inputs[n[k]], **range_kwargs(n[k], 0.0, 1.0, lower_inclusive=False), where=where)
         Pt, Ps0 = np.real(inputs[n["Pt"]]), np.real(inputs["Ps0"])
         npr = Pt / Ps0
         bad = npr <= 1.0

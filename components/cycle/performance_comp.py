@@ -3,6 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.ranges import range_kwargs
 from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_num_nodes
 
@@ -83,7 +84,7 @@ class PerformanceComp(om.ExplicitComponent):
     def _terms(self, inputs):
         bpr = inputs["BPR"]
         check_range("BPR", bpr, 0.0, np.inf, lower_inclusive=False)
-        check_range("fuel_LHV", inputs["fuel_LHV"], 1.0e6, 2.0e8, "J/kg")
+        check_range("fuel_LHV", inputs["fuel_LHV"], **range_kwargs("fuel_LHV"))
         w8, v8, v18, v0 = inputs["W5_frac"], inputs["Fg8_specific"], inputs["Fg18_specific"], inputs["V0"]
         w18 = bpr / (1.0 + bpr)
         fn = w8 * v8 + w18 * v18 - v0

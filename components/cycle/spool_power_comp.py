@@ -3,13 +3,14 @@
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.ranges import INPUT_RANGES, range_kwargs
 from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_num_nodes
 
 BPR_MAX = 30.0
 """Highest accepted bypass ratio, -."""
-POWER_OFFTAKE_MAX = 2.0e6
-"""Highest accepted aircraft-systems shaft power offtake from the HP spool, W."""
+POWER_OFFTAKE_MAX = INPUT_RANGES["HP_power_offtake"][1]
+"""Highest accepted aircraft-systems shaft power offtake from the HP spool, W (``INPUT_RANGES``)."""
 WORK_ROUNDOFF = 1.0e-6
 """Accepted round-off below zero in an element work, J/kg: a compressor of pressure ratio 1 (no booster)
 gives +-2e-10 J/kg with the thermally perfect gas, from the temperature inversion of its entropy function."""
@@ -102,7 +103,7 @@ class SpoolPowerComp(om.ExplicitComponent):
         check_range("BPR", bpr, 0.0, BPR_MAX, "", lower_inclusive=False, where=where)
         if self.options["spool"] == "HP":
             check_range("hpc_work", inputs["hpc_work"], -WORK_ROUNDOFF, np.inf, "J/kg", where=where)
-            check_range("HP_power_offtake", inputs["HP_power_offtake"], 0.0, POWER_OFFTAKE_MAX, "W",
+            check_range("HP_power_offtake", inputs["HP_power_offtake"], **range_kwargs("HP_power_offtake"),
                         where=where)
             check_range("W2", inputs["W2"], 0.0, np.inf, "kg/s", lower_inclusive=False, where=where)
         else:

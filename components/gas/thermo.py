@@ -2,6 +2,7 @@
 
 import numpy as np
 
+from bypassopt.components.ranges import GAS_TEMPERATURE_RANGE
 from bypassopt.components.validation import check_range
 
 from .nasa7_data import (DRY_AIR_MOLE_FRACTIONS, M_CARBON, M_HYDROGEN, NASA7, R_UNIVERSAL,
@@ -56,8 +57,7 @@ class GasProperties:
 class _GasBase:
     """Inverse functions shared by both gas models (Newton on real parts, complex-step correction)."""
 
-    T_MIN = 200.0
-    T_MAX = 2400.0
+    T_MIN, T_MAX = GAS_TEMPERATURE_RANGE  # 200-2400 K, shared with the scenario's cross-key checks
 
     def check_temperature(self, T, label="temperature"):
         """Raise a clear error if ``T`` is outside the model's valid range."""

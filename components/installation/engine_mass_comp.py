@@ -3,6 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.ranges import FAN_TIP_DIAMETER_MAX
 from bypassopt.components.validation import check_range, check_validity
 from bypassopt.components.options import declare_num_nodes
 
@@ -30,7 +31,7 @@ P_LP_REF = 10.0e6
 _SIZED = ("fan_tip_diameter", "W25_corrected", "LP_shaft_power", "nacelle_wetted_area")
 
 _INPUTS = (
-    ("fan_tip_diameter", 2.0, 0.3, 5.0, "m", "Fan tip diameter"),
+    ("fan_tip_diameter", 2.0, 0.3, FAN_TIP_DIAMETER_MAX, "m", "Fan tip diameter"),
     ("W25_corrected", 20.0, 1.0, 200.0, "kg/s", "Corrected mass flow at HPC entry (station 25)"),
     ("OPR", 40.0, 5.0, 80.0, None, "Overall pressure ratio Pt3/Pt2"),
     ("LP_shaft_power", 15.0e6, 1.0e5, 2.0e8, "W",

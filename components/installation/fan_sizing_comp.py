@@ -4,6 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.gas.flow import static_from_total
+from bypassopt.components.ranges import range_kwargs
 from bypassopt.components.validation import check_range
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
@@ -90,12 +91,8 @@ class FanSizingComp(om.ExplicitComponent):
         check_range("BPR", inputs["BPR"], 0.0, np.inf, lower_inclusive=False)
         check_range("fan_face_mach", inputs["fan_face_mach"], 0.0, 1.0, lower_inclusive=False,
                     upper_inclusive=False)
-        check_range("core_entry_mach", inputs["core_entry_mach"], 0.0, 1.0, lower_inclusive=False,
-                    upper_inclusive=False)
-        check_range("fan_hub_tip_ratio", inputs["fan_hub_tip_ratio"], 0.0, 0.6, upper_inclusive=False)
-        check_range("core_entry_hub_tip_ratio", inputs["core_entry_hub_tip_ratio"], 0.0, 0.8,
-                    upper_inclusive=False)
-        check_range("fan_tip_loading", inputs["fan_tip_loading"], 0.05, 1.0)
+        for name in ("core_entry_mach", "fan_hub_tip_ratio", "core_entry_hub_tip_ratio", "fan_tip_loading"):
+            check_range(name, inputs[name], **range_kwargs(name))
         check_range("fan_bypass_work", inputs["fan_bypass_work"], 0.0, np.inf, "J/kg", lower_inclusive=False)
         gas = self.options["gas"]
         zero = 0.0 * inputs["Tt2"]

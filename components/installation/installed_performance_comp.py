@@ -3,6 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.ranges import range_kwargs
 from bypassopt.components.validation import InputRangeError, check_range
 from bypassopt.components.options import declare_num_nodes
 
@@ -53,7 +54,7 @@ class InstalledPerformanceComp(om.ExplicitComponent):
 
     def compute(self, inputs, outputs):
         """Book the drag against the thrust."""
-        check_range("thrust_required", inputs["thrust_required"], 0.0, np.inf, "N", lower_inclusive=False)
+        check_range("thrust_required", inputs["thrust_required"], **range_kwargs("thrust_required"))
         check_range("nacelle_drag", inputs["nacelle_drag"], 0.0, np.inf, "N")
         check_range("W2", inputs["W2"], 0.0, np.inf, "kg/s", lower_inclusive=False)
         check_range("Fn_specific", inputs["Fn_specific"], units="N*s/kg")  # NaN; the sign is checked below

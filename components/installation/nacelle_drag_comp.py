@@ -3,6 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.ranges import INPUT_RANGES, range_kwargs
 from bypassopt.components.validation import check_range, check_validity
 from bypassopt.components.options import declare_num_nodes
 
@@ -118,6 +119,8 @@ class NacelleDragComp(om.ExplicitComponent):
             if name in _SIZED:  # follow the coupled engine size: validity judged on the converged state
                 check_validity(name, inputs[name], lo, hi, units or "", lower_inclusive=inc, where=where)
                 check_range(name, inputs[name], 0.0, np.inf, units or "", lower_inclusive=inc, where=where)
+            elif name in INPUT_RANGES:  # the range the scenario keys share (``components.ranges``)
+                check_range(name, inputs[name], **range_kwargs(name), where=where)
             else:
                 check_range(name, inputs[name], lo, hi, units or "", lower_inclusive=inc, where=where)
 

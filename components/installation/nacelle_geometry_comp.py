@@ -3,12 +3,13 @@
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.ranges import FAN_TIP_DIAMETER_MAX, FAN_TIP_DIAMETER_MIN, range_kwargs
 from bypassopt.components.validation import check_range, check_validity
 from bypassopt.components.options import declare_num_nodes
 
 # (name, default, lower, upper, units, desc) for every input, in declaration order.
 _INPUTS = (
-    ("fan_tip_diameter", 2.0, 0.2, 5.0, "m",
+    ("fan_tip_diameter", 2.0, FAN_TIP_DIAMETER_MIN, FAN_TIP_DIAMETER_MAX, "m",
      "Fan tip diameter at the fan leading edge, from fan sizing"),
     ("core_inlet_tip_diameter", 0.6, 0.05, 2.0, "m",
      "Tip diameter of the booster-exit/HPC-entry annulus (station 25), from fan sizing"),
@@ -127,8 +128,8 @@ class NacelleGeometryComp(om.ExplicitComponent):
             if name in _SIZED:  # follow the coupled engine size: validity judged on the converged state
                 check_validity(name, inputs[name], lo, hi, units, where=self.pathname)
                 check_range(name, inputs[name], 0.0, np.inf, units, lower_inclusive=False, where=self.pathname)
-            else:
-                check_range(name, inputs[name], lo, hi, units or "", where=self.pathname)
+            else:  # proportions: the range the scenario keys share (``components.ranges``)
+                check_range(name, inputs[name], **range_kwargs(name), where=self.pathname)
 
     def compute(self, inputs, outputs):
         """Compute the nacelle dimensions and wetted areas."""

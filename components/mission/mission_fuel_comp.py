@@ -3,13 +3,16 @@
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.ranges import INPUT_RANGES, range_kwargs
 from bypassopt.components.validation import check_range, check_validity
 from bypassopt.components.options import declare_num_nodes
 
 #: Standard acceleration of gravity, m/s**2 (ISO 80000-3 / CGPM 1901).
 G0 = 9.80665
 
-# (name, default, lower, upper, lower_inclusive, units, desc)
+# (name, default, lower, upper, lower_inclusive, units, desc); an input in
+# ``components.ranges.INPUT_RANGES`` (the aircraft keys of a scenario) is checked against that table (equal to the
+# range listed here; a test keeps them equal).
 _INPUTS = (
     ("installed_TSFC", 15.5e-6, 0.0, 1.0e-4, False, "kg/N/s",
      "Installed cruise thrust-specific fuel consumption (nacelle drag booked as a thrust debit)"),
@@ -17,13 +20,13 @@ _INPUTS = (
     ("lift_to_drag", 17.5, 0.0, 40.0, False, None,
      "Cruise lift-to-drag ratio of the airframe without the nacelles"),
     ("design_range", 5.0e6, 0.0, 2.0e7, False, "m", "Design range flown in cruise"),
-    ("empty_mass_no_engines", 38500.0, 0.0, 1.0e6, False, "kg",
+    ("empty_mass_no_engines", 38500.0, 1.0e3, 1.0e6, True, "kg",
      "Operating empty mass without engines, nacelles and pylons"),
-    ("payload", 16150.0, 0.0, 1.0e6, True, "kg", "Design payload"),
+    ("payload", 16150.0, 0.0, 5.0e5, True, "kg", "Design payload"),
     ("powerplant_mass", 3200.0, 0.0, 1.0e5, True, "kg",
      "Installed powerplant mass per engine (dry engine, nacelle and pylon)"),
-    ("max_takeoff_mass", 76000.0, 0.0, 2.0e6, False, "kg", "Maximum take-off mass"),
-    ("reserve_fraction", 0.05, 0.0, 0.5, True, None,
+    ("max_takeoff_mass", 76000.0, 1.0e3, 1.0e6, True, "kg", "Maximum take-off mass"),
+    ("reserve_fraction", 0.05, 0.0, 0.3, True, None,
      "Reserve fuel as a fraction of the zero-fuel mass (alternate, hold and contingency)"),
     ("descent_landing_fraction", 0.99, 0.9, 1.0, False, None,
      "Mass ratio end/start of descent and landing"),
@@ -123,6 +126,8 @@ class MissionFuelComp(om.ExplicitComponent):
             if name in _COUPLED:  # upper bound: validity, judged on the converged state of a coupled solve
                 check_validity(name, inputs[name], lo, hi, units or "", lower_inclusive=inc, where=self.pathname)
                 check_range(name, inputs[name], lo, np.inf, units or "", lower_inclusive=inc, where=self.pathname)
+            elif name in INPUT_RANGES:  # the range the scenario keys share (``components.ranges``)
+                check_range(name, inputs[name], **range_kwargs(name), where=self.pathname)
             else:
                 check_range(name, inputs[name], lo, hi, units or "", lower_inclusive=inc,
                             where=self.pathname)

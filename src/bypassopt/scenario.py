@@ -8,7 +8,10 @@ sections or keys, wrong types, out-of-range values and limits no design can meet
 ``ScenarioError``, a line per error naming the key, the value, the allowed range and the key's meaning.
 
 The ``[engine]`` and ``[installation]`` keys and ``limits.max_nacelle_diameter_m`` default to the model's own
-input defaults (``bypassopt.components.defaults``). The built-in demo scenario is
+input defaults (``bypassopt.components.defaults``). A key whose model input has a valid range in
+``bypassopt.components.ranges.INPUT_RANGES`` takes that range (``_ranged``): the model and the scenario share one
+table. Limits across keys (static temperature, the fan diameter a thrust or a nacelle limit implies) are checked
+in ``_check_consistency``. The built-in demo scenario is
 ``src/bypassopt/data/demo_twin_170.toml`` (an invented aircraft concept).
 """
 
@@ -23,6 +26,7 @@ from pydantic import AfterValidator, BaseModel, ConfigDict, Field, ValidationErr
 from pydantic.fields import FieldInfo
 
 from bypassopt.components.defaults import FUEL_HC_RATIO, INPUT_DEFAULTS
+from bypassopt.components.ranges import FAN_TIP_DIAMETER_MAX, FAN_TIP_DIAMETER_MIN, GAS_TEMPERATURE_RANGE, INPUT_RANGES
 
 #: Path of the built-in demo scenario inside the installed package.
 DEMO_SCENARIO = "demo_twin_170.toml"
@@ -93,6 +97,20 @@ def _num(lo, hi, desc, var=None, lo_open=False, hi_open=False, default=None):
     extra = {"var": var} if var else None
     return Field(default, description=desc, allow_inf_nan=False, json_schema_extra=extra,
                  **_bounds_kwargs(lo, hi, lo_open, hi_open))
+
+
+def _ranged(desc, var):
+    """Return a number field whose range is the model's, ``INPUT_RANGES[var]`` (``bypassopt.components.ranges``).
+
+    Parameters
+    ----------
+    desc : str
+        Meaning of the key.
+    var : str
+        Model input the key sets; a key of ``INPUT_RANGES``.
+    """
+    lo, hi, lo_open, hi_open, _units = INPUT_RANGES[var]
+    return _num(lo, hi, desc, var, lo_open=lo_open, hi_open=hi_open)
 
 
 def _int(lo, hi, desc):
@@ -174,29 +192,26 @@ class Aircraft(_Section):
 
     name: PrintableText = _text("name of the (invented) aircraft concept")
     num_engines: int = _int(1, 4, "number of engines")
-    max_takeoff_mass_kg: float = _num(1e3, 1e6, "maximum take-off mass", "max_takeoff_mass")
-    empty_mass_no_engines_kg: float = _num(1e3, 1e6, "operating empty mass without engines and nacelles",
-                                           "empty_mass_no_engines")
-    payload_kg: float = _num(0.0, 5e5, "design payload", "payload")
+    max_takeoff_mass_kg: float = _ranged("maximum take-off mass", "max_takeoff_mass")
+    empty_mass_no_engines_kg: float = _ranged("operating empty mass without engines and nacelles",
+                                              "empty_mass_no_engines")
+    payload_kg: float = _ranged("design payload", "payload")
     design_range_m: float = _num(1e5, 2e7, "design range flown in cruise", "design_range")
     lift_to_drag: float = _num(5.0, 40.0, "cruise lift-to-drag ratio of the airframe without nacelles (below 8 "
                                "is flagged in the results)", "lift_to_drag")
-    reserve_fraction: float = _num(0.0, 0.3, "reserve fuel as a fraction of zero-fuel mass", "reserve_fraction")
-    taxi_takeoff_fraction: float = _num(0.9, 1.0, "mass ratio end/start of taxi and take-off",
-                                        "taxi_takeoff_fraction", lo_open=True)
-    climb_fraction: float = _num(0.9, 1.0, "mass ratio end/start of climb", "climb_fraction", lo_open=True)
-    descent_landing_fraction: float = _num(0.9, 1.0, "mass ratio end/start of descent and landing",
-                                           "descent_landing_fraction", lo_open=True)
+    reserve_fraction: float = _ranged("reserve fuel as a fraction of zero-fuel mass", "reserve_fraction")
+    taxi_takeoff_fraction: float = _ranged("mass ratio end/start of taxi and take-off", "taxi_takeoff_fraction")
+    climb_fraction: float = _ranged("mass ratio end/start of climb", "climb_fraction")
+    descent_landing_fraction: float = _ranged("mass ratio end/start of descent and landing", "descent_landing_fraction")
 
 
 class DesignPoint(_Section):
     """``[design_point]``: flight condition and thrust at which the cycle is designed and the engine sized."""
 
-    altitude_m: float = _num(0.0, 20000.0, "geopotential altitude of the cycle design (sizing) point", "altitude")
-    dT_isa_K: float = _num(-60.0, 60.0, "temperature offset from ISA", "dT_isa")
+    altitude_m: float = _ranged("geopotential altitude of the cycle design (sizing) point", "altitude")
+    dT_isa_K: float = _ranged("temperature offset from ISA", "dT_isa")
     mach: float = _num(0.0, 0.95, "flight Mach number", "Mach0", lo_open=True)
-    thrust_required_N: float = _num(100.0, 1e6, "installed net thrust per engine the airframe needs",
-                                    "thrust_required")
+    thrust_required_N: float = _ranged("installed net thrust per engine the airframe needs", "thrust_required")
 
 
 class Installation(_Section):
@@ -209,29 +224,23 @@ class Installation(_Section):
     min_ground_clearance_m: float = _num(0.0, 5.0,
                                          "minimum nacelle ground clearance (from your airworthiness rules)",
                                          "min_ground_clearance")
-    nacelle_diameter_ratio: float = _num(1.0, 1.6, "max nacelle diameter / fan tip diameter",
-                                         "nacelle_diameter_ratio")
-    containment_allowance_m: float = _num(0.0, 0.5, "fan case / containment allowance on the diameter",
-                                          "containment_allowance")
-    fan_cowl_length_ratio: float = _num(0.5, 3.0, "fan-cowl length / max nacelle diameter", "fan_cowl_length_ratio")
-    core_cowl_diameter_ratio: float = _num(1.0, 4.0, "core-cowl max diameter / core entry tip diameter",
-                                           "core_cowl_diameter_ratio")
-    core_cowl_length_ratio: float = _num(0.2, 4.0, "exposed core-cowl length / its diameter",
-                                         "core_cowl_length_ratio")
-    core_exit_diameter_ratio: float = _num(0.2, 1.0, "core-cowl aft diameter / max diameter",
-                                           "core_exit_diameter_ratio")
-    plug_diameter_ratio: float = _num(0.05, 1.0, "plug base diameter / core-cowl max diameter",
-                                      "plug_diameter_ratio")
-    plug_length_ratio: float = _num(0.2, 4.0, "plug cone length / its base diameter", "plug_length_ratio")
-    nacelle_interference_factor: float = _num(1.0, 2.0, "interference factor of the fan cowl",
-                                              "nacelle_interference_factor")
-    pylon_drag_area_m2: float = _num(0.0, 5.0, "pylon drag area CD*S", "pylon_drag_area")
+    nacelle_diameter_ratio: float = _ranged("max nacelle diameter / fan tip diameter", "nacelle_diameter_ratio")
+    containment_allowance_m: float = _ranged("fan case / containment allowance on the diameter",
+                                             "containment_allowance")
+    fan_cowl_length_ratio: float = _ranged("fan-cowl length / max nacelle diameter", "fan_cowl_length_ratio")
+    core_cowl_diameter_ratio: float = _ranged("core-cowl max diameter / core entry tip diameter",
+                                              "core_cowl_diameter_ratio")
+    core_cowl_length_ratio: float = _ranged("exposed core-cowl length / its diameter", "core_cowl_length_ratio")
+    core_exit_diameter_ratio: float = _ranged("core-cowl aft diameter / max diameter", "core_exit_diameter_ratio")
+    plug_diameter_ratio: float = _ranged("plug base diameter / core-cowl max diameter", "plug_diameter_ratio")
+    plug_length_ratio: float = _ranged("plug cone length / its base diameter", "plug_length_ratio")
+    nacelle_interference_factor: float = _ranged("interference factor of the fan cowl", "nacelle_interference_factor")
+    pylon_drag_area_m2: float = _ranged("pylon drag area CD*S", "pylon_drag_area")
     fan_face_mach: float = _num(0.3, 0.8, "design axial Mach number at the fan face", "fan_face_mach")
-    fan_hub_tip_ratio: float = _num(0.0, 0.6, "fan hub-to-tip ratio", "fan_hub_tip_ratio", hi_open=True)
-    core_entry_mach: float = _num(0.2, 0.8, "axial Mach number at the core entry", "core_entry_mach")
-    core_entry_hub_tip_ratio: float = _num(0.0, 0.8, "core entry hub-to-tip ratio", "core_entry_hub_tip_ratio",
-                                           hi_open=True)
-    fan_tip_loading: float = _num(0.05, 1.0, "fan tip loading dh/U^2", "fan_tip_loading")
+    fan_hub_tip_ratio: float = _ranged("fan hub-to-tip ratio", "fan_hub_tip_ratio")
+    core_entry_mach: float = _ranged("axial Mach number at the core entry", "core_entry_mach")
+    core_entry_hub_tip_ratio: float = _ranged("core entry hub-to-tip ratio", "core_entry_hub_tip_ratio")
+    fan_tip_loading: float = _ranged("fan tip loading dh/U^2", "fan_tip_loading")
 
 
 class Limits(_Section):
@@ -248,44 +257,37 @@ class Limits(_Section):
 class Engine(_Section):
     """``[engine]``: component efficiencies and losses, extractions, fuel and turbine cooling data."""
 
-    fan_bypass_eff_poly: float = _num(0.5, 1.0, "fan bypass polytropic efficiency", "fan_bypass_eff_poly")
-    fan_core_eff_poly: float = _num(0.5, 1.0, "fan core-side polytropic efficiency", "fan_core_eff_poly")
-    booster_eff_poly: float = _num(0.5, 1.0, "booster polytropic efficiency", "booster_eff_poly")
-    hpc_eff_poly: float = _num(0.5, 1.0, "HPC polytropic efficiency", "hpc_eff_poly")
+    fan_bypass_eff_poly: float = _ranged("fan bypass polytropic efficiency", "fan_bypass_eff_poly")
+    fan_core_eff_poly: float = _ranged("fan core-side polytropic efficiency", "fan_core_eff_poly")
+    booster_eff_poly: float = _ranged("booster polytropic efficiency", "booster_eff_poly")
+    hpc_eff_poly: float = _ranged("HPC polytropic efficiency", "hpc_eff_poly")
     hpt_eff_poly: float = _num(0.5, 1.0, "HPT polytropic efficiency", "hpt_eff_poly")
     lpt_eff_poly: float = _num(0.5, 1.0, "LPT polytropic efficiency", "lpt_eff_poly")
     HP_mech_eff: float = _num(0.5, 1.0, "HP spool mechanical efficiency", "HP_mech_eff", lo_open=True)
     LP_mech_eff: float = _num(0.5, 1.0, "LP spool mechanical efficiency", "LP_mech_eff", lo_open=True)
-    inlet_recovery: float = _num(0.8, 1.0, "intake total-pressure recovery", "inlet_recovery")
-    burner_pressure_loss: float = _num(0.0, 0.2, "burner total-pressure loss fraction", "burner_pressure_loss")
+    inlet_recovery: float = _ranged("intake total-pressure recovery", "inlet_recovery")
+    burner_pressure_loss: float = _ranged("burner total-pressure loss fraction", "burner_pressure_loss")
     combustion_eff: float = _num(0.5, 1.0, "combustion efficiency", "combustion_eff", lo_open=True)
-    core_duct_pressure_loss: float = _num(0.0, 0.2, "core exhaust duct pressure loss fraction",
-                                          "core_duct_pressure_loss")
-    bypass_duct_pressure_loss: float = _num(0.0, 0.2, "bypass duct pressure loss fraction",
-                                            "bypass_duct_pressure_loss")
-    core_nozzle_velocity_coeff: float = _num(0.8, 1.0, "core nozzle velocity coefficient",
-                                             "core_nozzle_velocity_coeff")
-    bypass_nozzle_velocity_coeff: float = _num(0.8, 1.0, "bypass nozzle velocity coefficient",
-                                               "bypass_nozzle_velocity_coeff")
-    core_nozzle_discharge_coeff: float = _num(0.8, 1.0, "core nozzle discharge coefficient",
-                                              "core_nozzle_discharge_coeff")
-    bypass_nozzle_discharge_coeff: float = _num(0.8, 1.0, "bypass nozzle discharge coefficient",
-                                                "bypass_nozzle_discharge_coeff")
+    core_duct_pressure_loss: float = _ranged("core exhaust duct pressure loss fraction", "core_duct_pressure_loss")
+    bypass_duct_pressure_loss: float = _ranged("bypass duct pressure loss fraction", "bypass_duct_pressure_loss")
+    core_nozzle_velocity_coeff: float = _ranged("core nozzle velocity coefficient", "core_nozzle_velocity_coeff")
+    bypass_nozzle_velocity_coeff: float = _ranged("bypass nozzle velocity coefficient", "bypass_nozzle_velocity_coeff")
+    core_nozzle_discharge_coeff: float = _ranged("core nozzle discharge coefficient", "core_nozzle_discharge_coeff")
+    bypass_nozzle_discharge_coeff: float = _ranged("bypass nozzle discharge coefficient",
+                                                   "bypass_nozzle_discharge_coeff")
     booster_PR: float = _num(1.0, 5.0, "booster pressure ratio", "booster_PR")
-    customer_bleed_frac: float = _num(0.0, 0.1, "customer bleed per unit core flow", "customer_bleed_frac")
-    HP_power_offtake_W: float = _num(0.0, 2e6, "HP shaft power offtake for aircraft systems", "HP_power_offtake")
-    fuel_LHV_J_per_kg: float = _num(1e7, 1.5e8, "fuel lower heating value", "fuel_LHV")
+    customer_bleed_frac: float = _ranged("customer bleed per unit core flow", "customer_bleed_frac")
+    HP_power_offtake_W: float = _ranged("HP shaft power offtake for aircraft systems", "HP_power_offtake")
+    fuel_LHV_J_per_kg: float = _ranged("fuel lower heating value", "fuel_LHV")
     fuel_hc_ratio: float = _num(0.5, 4.0, "fuel hydrogen-to-carbon atom ratio", default=FUEL_HC_RATIO)
-    vane_metal_temperature_K: float = _num(900.0, 1700.0, "allowable HPT vane metal temperature (engine data)",
-                                           "vane_metal_temperature")
-    rotor_metal_temperature_K: float = _num(900.0, 1700.0, "allowable HPT blade metal temperature (engine data)",
-                                            "rotor_metal_temperature")
-    vane_cooling_constant: float = _num(0.0, 0.5, "cooling correlation constant of the HPT vanes",
-                                        "vane_cooling_constant")
-    rotor_cooling_constant: float = _num(0.0, 0.5, "cooling correlation constant of the HPT blades",
-                                         "rotor_cooling_constant")
-    rotor_relative_temperature_ratio: float = _num(0.7, 1.0, "rotor-relative / absolute gas temperature",
-                                                   "rotor_relative_temperature_ratio")
+    vane_metal_temperature_K: float = _ranged("allowable HPT vane metal temperature (engine data)",
+                                              "vane_metal_temperature")
+    rotor_metal_temperature_K: float = _ranged("allowable HPT blade metal temperature (engine data)",
+                                               "rotor_metal_temperature")
+    vane_cooling_constant: float = _ranged("cooling correlation constant of the HPT vanes", "vane_cooling_constant")
+    rotor_cooling_constant: float = _ranged("cooling correlation constant of the HPT blades", "rotor_cooling_constant")
+    rotor_relative_temperature_ratio: float = _ranged("rotor-relative / absolute gas temperature",
+                                                      "rotor_relative_temperature_ratio")
 
 
 DesignVariables = create_model(
@@ -602,6 +604,105 @@ def _check_consistency(s):
     if "Tt4_K" in s.get("design_variables", {}) and "max_Tt41_K" in lim:
         if lim["max_Tt41_K"] <= 1000.0:
             errors.append("infeasible limits: limits.max_Tt41_K must exceed 1000 K.")
+    errors.extend(_check_model_limits(s))
+    return errors
+
+
+#: Error bound of ``_fan_tip_diameter_estimate`` against the model's fan sizing: within 30 % over the design
+#: variables' and flight conditions' common range (measured on the demo scenario: ratio 0.93-1.28).
+FAN_ESTIMATE_TOLERANCE = 1.3
+
+
+def _static_temperature(altitude_m, dT_isa_K):
+    """Return the static temperature (K) and pressure (Pa) of the model's atmosphere (``AtmosphereComp``)."""
+    import numpy as np
+
+    from bypassopt.components.atmosphere.atmosphere_comp import AtmosphereComp
+
+    T_std, _, p, _ = AtmosphereComp._standard(np.array([float(altitude_m)]))
+    return float(T_std[0]) + dT_isa_K, float(p[0])
+
+
+def _fan_tip_diameter_estimate(s):
+    """Fan tip diameter (m) the design-point thrust needs at the starting design, or None when not estimable.
+
+    Momentum estimate with air as a perfect gas (gamma = 1.4): the whole flow W2 leaves through an ideally expanded
+    bypass nozzle, W2 = thrust / (V19 - V0), and passes the fan face at ``fan_face_mach`` with the intake's total
+    state; the annulus with ``fan_hub_tip_ratio`` gives the diameter. The core jet is faster than the bypass jet,
+    so the estimate tends to be above the model's sizing (within ``FAN_ESTIMATE_TOLERANCE``).
+    """
+    import math
+
+    from bypassopt.components.atmosphere.atmosphere_comp import R_AIR
+
+    dp, inst, eng, dv = (s.get(k, {}) for k in ("design_point", "installation", "engine", "design_variables"))
+    need = {"altitude_m", "dT_isa_K", "mach", "thrust_required_N"}
+    if not (need <= set(dp) and "FPR" in dv and {"fan_face_mach", "fan_hub_tip_ratio"} <= set(inst)):
+        return None
+    Ts, Ps = _static_temperature(dp["altitude_m"], dp["dT_isa_K"])
+    if Ts <= 0.0:
+        return None
+    g = 1.4
+    x = (g - 1.0) / g
+    cp = R_AIR / x
+    M0 = dp["mach"]
+    Tt0 = Ts * (1.0 + 0.5 * (g - 1.0) * M0 ** 2)
+    Pt2 = Ps * (Tt0 / Ts) ** (1.0 / x) * eng.get("inlet_recovery", 1.0)
+    V0 = M0 * math.sqrt(g * R_AIR * Ts)
+    fpr = dv["FPR"]["initial"]
+    Tt13 = Tt0 * fpr ** (x / eng.get("fan_bypass_eff_poly", 1.0))
+    Pt13 = Pt2 * fpr * (1.0 - eng.get("bypass_duct_pressure_loss", 0.0))
+    V19 = eng.get("bypass_nozzle_velocity_coeff", 1.0) * math.sqrt(2.0 * cp * Tt13 * max(0.0, 1.0 - (Ps / Pt13) ** x))
+    if V19 <= V0:
+        return None  # no thrust from the bypass stream: the model reports it with its own message
+    W2 = dp["thrust_required_N"] / (V19 - V0)
+    Mf = inst["fan_face_mach"]
+    flow_per_area = Pt2 * math.sqrt(g / (R_AIR * Tt0)) * Mf * (1.0 + 0.5 * (g - 1.0) * Mf ** 2) ** (
+        -(g + 1.0) / (2.0 * (g - 1.0)))
+    return math.sqrt(4.0 * W2 / flow_per_area / (math.pi * (1.0 - inst["fan_hub_tip_ratio"] ** 2)))
+
+
+def _check_model_limits(s):
+    """Cross-key limits of the model that no single key range expresses (``bypassopt.components.ranges``).
+
+    * the design point's static temperature (altitude with ISA offset) must lie in the gas model's range;
+    * ``limits.max_nacelle_diameter_m`` must be a nacelle the model can size: at most the largest fan
+      (``FAN_TIP_DIAMETER_MAX``) times ``nacelle_diameter_ratio`` plus ``containment_allowance_m``;
+    * the design-point thrust must need a fan inside the model's fan-diameter range at the starting design
+      (``_fan_tip_diameter_estimate``, judged with its error bound ``FAN_ESTIMATE_TOLERANCE``).
+
+    Returns
+    -------
+    list of str
+        One line per violated limit, naming the keys, their values and the reason.
+    """
+    errors = []
+    dp, inst, lim = s.get("design_point", {}), s.get("installation", {}), s.get("limits", {})
+    t_lo, t_hi = GAS_TEMPERATURE_RANGE
+    if {"altitude_m", "dT_isa_K"} <= set(dp):
+        Ts, _ = _static_temperature(dp["altitude_m"], dp["dT_isa_K"])
+        if not t_lo <= Ts <= t_hi:
+            errors.append(
+                f"design_point.altitude_m = {dp['altitude_m']:g} with design_point.dT_isa_K = {dp['dT_isa_K']:g} gives "
+                f"a static temperature of {Ts:.5g} K, outside the gas model's range ({t_lo:g} to {t_hi:g} K); "
+                f"lower the altitude or raise dT_isa_K.")
+    if {"nacelle_diameter_ratio", "containment_allowance_m"} <= set(inst) and "max_nacelle_diameter_m" in lim:
+        largest = FAN_TIP_DIAMETER_MAX * inst["nacelle_diameter_ratio"] + inst["containment_allowance_m"]
+        if lim["max_nacelle_diameter_m"] > largest:
+            errors.append(
+                f"limits.max_nacelle_diameter_m = {lim['max_nacelle_diameter_m']:g} m is above the largest nacelle the "
+                f"model can size, {largest:.4g} m (the {FAN_TIP_DIAMETER_MAX:g} m fan tip diameter cap times "
+                f"installation.nacelle_diameter_ratio = {inst['nacelle_diameter_ratio']:g}, plus "
+                f"installation.containment_allowance_m = {inst['containment_allowance_m']:g} m).")
+    d_fan = _fan_tip_diameter_estimate(s)
+    if d_fan is not None and not (FAN_TIP_DIAMETER_MIN / FAN_ESTIMATE_TOLERANCE <= d_fan
+                                  <= FAN_TIP_DIAMETER_MAX * FAN_ESTIMATE_TOLERANCE):
+        fpr = s["design_variables"]["FPR"]["initial"]
+        errors.append(
+            f"design_point.thrust_required_N = {dp['thrust_required_N']:g} N needs a fan tip diameter of about "
+            f"{d_fan:.3g} m at design_point.altitude_m = {dp['altitude_m']:g}, mach = {dp['mach']:g}, "
+            f"dT_isa_K = {dp['dT_isa_K']:g} and design_variables.FPR.initial = {fpr:g} (momentum estimate), outside "
+            f"the model's fan range ({FAN_TIP_DIAMETER_MIN:g} to {FAN_TIP_DIAMETER_MAX:g} m).")
     return errors
 
 
@@ -696,18 +797,38 @@ def load_scenario(path=None):
     return validate(_read_toml(path), base=base, source=path)
 
 
+#: Unit suffixes of scenario keys -> OpenMDAO units (SI; a key without a suffix is dimensionless).
+KEY_UNITS = {"_m": "m", "_K": "K", "_N": "N", "_kg": "kg", "_W": "W", "_m2": "m**2", "_J_per_kg": "J/kg",
+             "_kg_s": "kg/s"}
+
+
+def key_units(key):
+    """Return the OpenMDAO units of a scenario key from its name's suffix (None: dimensionless)."""
+    return next((u for suffix, u in sorted(KEY_UNITS.items(), key=lambda kv: -len(kv[0])) if key.endswith(suffix)),
+                None)
+
+
+def _check_table_units():
+    """Require each key that takes its range from ``INPUT_RANGES`` to carry the table's units (import-time check)."""
+    for section, keys in SCHEMA.items():
+        for key, spec in keys.items():
+            var = spec.get("var")
+            if var in INPUT_RANGES and key_units(key) != INPUT_RANGES[var][4]:  # pragma: no cover - guarded by tests
+                raise RuntimeError(f"{section}.{key} is in {key_units(key)} but INPUT_RANGES[{var!r}] is in "
+                                   f"{INPUT_RANGES[var][4]}; the shared range would be wrong.")
+
+
+_check_table_units()
+
+
 def model_inputs(scenario):
     """Map a validated scenario onto promoted model input names: {name: (value, units)}."""
-    units = {"_m": "m", "_K": "K", "_N": "N", "_kg": "kg", "_W": "W", "_m2": "m**2", "_J_per_kg": "J/kg",
-             "_kg_s": "kg/s"}
     out = {}
     for section, keys in SCHEMA.items():
         for key, spec in keys.items():
             var = spec.get("var")
             if var and key in scenario.get(section, {}):
-                unit = next((u for suffix, u in sorted(units.items(), key=lambda kv: -len(kv[0]))
-                             if key.endswith(suffix)), None)
-                out[var] = (scenario[section][key], unit)
+                out[var] = (scenario[section][key], key_units(key))
     for key, (var, _, _, _) in DESIGN_VARIABLES.items():
         if key in scenario.get("design_variables", {}):
             out[var] = (scenario["design_variables"][key]["initial"], "K" if key.endswith("_K") else None)
