@@ -34,13 +34,21 @@ def _fmt(x):
     return f"{x:.6g}"
 
 
+#: An inclusive bound accepts values this far past it, relative to max(1, |bound|): round-off, not input. A
+#: solver's linear update can move an input that sits exactly on its bound (a containment allowance of 0 m)
+#: by about 1e-35 (measured), which must not read as "outside the valid range".
+ROUND_OFF_RTOL = 1e-12
+
+
 def _range_message(name, value, lower, upper, units, lower_inclusive, upper_inclusive, where):
     """Return (message naming the first offending element, or None when all are valid; any NaN)."""
     v = np.real(np.asarray(value))
     flat = np.atleast_1d(v).ravel()
     bad_nan = ~np.isfinite(flat)
-    lo_bad = flat < lower if lower_inclusive else flat <= lower
-    hi_bad = flat > upper if upper_inclusive else flat >= upper
+    lo_slack = ROUND_OFF_RTOL * max(1.0, abs(lower)) if np.isfinite(lower) else 0.0
+    hi_slack = ROUND_OFF_RTOL * max(1.0, abs(upper)) if np.isfinite(upper) else 0.0
+    lo_bad = flat < lower - lo_slack if lower_inclusive else flat <= lower
+    hi_bad = flat > upper + hi_slack if upper_inclusive else flat >= upper
     bad = bad_nan | lo_bad | hi_bad
     if not np.any(bad):
         return None, False

@@ -63,8 +63,7 @@ ENDS = _ends()
 #: Known failures: the installed engine's Newton solver (on the problem's root group, which holds the automatic
 #: independent variables) moves the input containment_allowance = 0 by round-off to -7e-35 m, which its range
 #: check refuses. A solver fix (independent variables outside the Newton group), not a range, is needed.
-KNOWN = {("installation", "containment_allowance_m", 0.0):
-         "Newton round-off moves the independent input containment_allowance = 0 below 0"}
+KNOWN = {}  # (section, key, value): reason, for a known failure marked xfail (strict); none at present
 
 
 def _end_params():

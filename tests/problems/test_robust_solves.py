@@ -199,3 +199,16 @@ def test_best_cycle_problem_moves_an_unevaluable_start_towards_the_initial_desig
         prob.run_model()
     assert prob.run_driver().success
     assert prob.driver.start_moved["towards"] == {k: [v] for k, v in initial.items()}
+
+
+def test_inclusive_bounds_tolerate_round_off_only():
+    """An input on an inclusive bound, moved by a solver's round-off (1e-35 m measured), is still valid; a real
+    excursion (1e-9 m) or a value on an open bound is not."""
+    from bypassopt.components.validation import check_range
+
+    check_range("containment_allowance", np.array([-7e-35, 0.0]), 0.0, 0.5, "m")
+    check_range("efficiency", 1.0 + 1e-15, 0.5, 1.0)
+    with pytest.raises(InputRangeError, match=r"containment_allowance = -1e-09 m is outside the valid range"):
+        check_range("containment_allowance", -1e-9, 0.0, 0.5, "m")
+    with pytest.raises(InputRangeError, match=r"FPR = 1 is outside the valid range \(above 1"):
+        check_range("FPR", 1.0, 1.0, 4.0, lower_inclusive=False)
