@@ -6,7 +6,7 @@ import textwrap
 import openmdao.api as om
 
 from bypassopt import CAUTION
-from bypassopt.report import design_summary, format_number, optimum_summary, text_table
+from bypassopt.report import design_summary, format_number, optimum_summary
 from bypassopt.scenario import ScenarioError, load_scenario
 
 from .best_cycle import build_best_cycle_problem, build_evaluation_problem
@@ -143,16 +143,18 @@ def compare_reengining(scenario=None, objective=None, driver=None, before_run=No
     }
 
 
-def format_reengining(result):
-    """Readable table of a ``compare_reengining`` result."""
+def reengining_blocks(result):
+    """Report of a ``compare_reengining`` result as blocks (strings and ``report.TextTable``s)."""
+    from bypassopt.report import TextTable, clean_text
+
     prev = result["previous_engine"]
     lines = ["bypassopt: re-engining comparison", "=" * 33]
     if result.get("scenario"):
-        lines.append(f"Scenario: {result['scenario']}")
+        lines.append(f"Scenario: {clean_text(result['scenario'])}")
     lines.append(textwrap.fill("CAUTION: " + result["caution"], width=100))
     lines.append("")
     lines.append(f"Previous engine: BPR {format_number(prev['BPR'])}, FPR {format_number(prev['FPR'])}, "
-                 f"OPR {format_number(prev['OPR'])}, T4 {format_number(prev['Tt4_K'])} K, polytropic "
+                 f"OPR {format_number(prev['OPR'])}, Tt4 {format_number(prev['Tt4_K'])} K, polytropic "
                  f"efficiencies {format_number(100.0 * prev.get('efficiency_drop', 0.0), 3)} points lower.")
     opt = result["optimizer"]
     state = "converged" if opt["success"] else "DID NOT CONVERGE"
@@ -166,8 +168,15 @@ def format_reengining(result):
         rows.append((r["description"], format_number(r["previous"]), format_number(r["new"]),
                      format_number(r["difference"]) if r["difference"] <= 0 else "+" + format_number(r["difference"]),
                      pct, r["units"] or ""))
-    lines += text_table(("quantity", "previous", "new", "new - previous", "change", "units"), rows, "lrrrrl")
+    blocks = ["\n".join(lines), TextTable(("quantity", "previous", "new", "new - previous", "change", "units"),
+                                          rows, "lrrrrl")]
     if result["notes"]:
-        lines.append("")
-        lines += [f"Note: {n}" for n in result["notes"]]
-    return "\n".join(lines) + "\n"
+        blocks.append("\n" + "\n".join(f"Note: {n}" for n in result["notes"]))
+    return blocks
+
+
+def format_reengining(result):
+    """Readable plain-text table of a ``compare_reengining`` result."""
+    from bypassopt.report import render_plain
+
+    return render_plain(reengining_blocks(result))

@@ -441,7 +441,7 @@ def test_progress_on_a_terminal_is_transient():
 
 def test_report_blocks_render_the_same_plain_text():
     """The reengine report written from blocks reads as problems.reengine's own text; a hostile name is cleaned."""
-    from bypassopt.commands.reengine import reengine_blocks
+    from bypassopt.problems.reengine import reengining_blocks as reengine_blocks
     from bypassopt.problems.reengine import format_reengining
     from bypassopt.report import render_plain, render_rich
 

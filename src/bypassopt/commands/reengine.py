@@ -1,7 +1,7 @@
 """``bypassopt reengine``: the scenario's previous-generation engine against the optimised one."""
 
 from bypassopt.commands._run import (EXIT_OK, NotConverged, UsageError, check_driver, optimizer_counts,
-                                     precheck_design, progress_callback, textwrap_fill, write_csv_file,
+                                     precheck_design, progress_callback, write_csv_file,
                                      write_json_file)
 from bypassopt.commands.optimize import DRIVERS, OBJECTIVES, screen_limits
 
@@ -25,7 +25,7 @@ def add_parser(sub, common):
 def run(run, scenario):
     """Compare the engines; return (result, exit code); NotConverged when the new engine's optimum failed."""
     from bypassopt.problems.best_cycle import OBJECTIVES as OBJECTIVE_UNITS
-    from bypassopt.problems.reengine import compare_reengining, evaluate_previous_engine
+    from bypassopt.problems.reengine import compare_reengining, evaluate_previous_engine, reengining_blocks
     from bypassopt.scenario import ScenarioError
 
     args = run.args
@@ -53,40 +53,8 @@ def run(run, scenario):
     progress.finish(f"{state} after {optimizer_counts(opt)}", seconds=opt.get("runtime_s"))
     write_json_file(run, "reengine.json", result)
     write_csv_file(run, "reengine.csv", result["comparison"])
-    run.print_report(reengine_blocks(result))
+    run.print_report(reengining_blocks(result))
     if not opt["success"]:
         raise NotConverged("the optimizer did not converge for the new engine "
                            f"({opt['message'] or 'no message'})", result)
     return result, EXIT_OK
-
-
-def reengine_blocks(result):
-    """Report of ``compare_reengining`` as blocks; as plain text it reads as ``format_reengining``."""
-    from bypassopt.report import TextTable, clean_text, format_number
-
-    prev = result["previous_engine"]
-    lines = ["bypassopt: re-engining comparison", "=" * 33]
-    if result.get("scenario"):
-        lines.append(f"Scenario: {clean_text(result['scenario'])}")
-    lines.append(textwrap_fill("CAUTION: " + result["caution"]))
-    lines.append("")
-    lines.append(f"Previous engine: BPR {format_number(prev['BPR'])}, FPR {format_number(prev['FPR'])}, "
-                 f"OPR {format_number(prev['OPR'])}, T4 {format_number(prev['Tt4_K'])} K, polytropic "
-                 f"efficiencies {format_number(100.0 * prev.get('efficiency_drop', 0.0), 3)} points lower.")
-    opt = result["optimizer"]
-    state = "converged" if opt["success"] else "DID NOT CONVERGE"
-    lines.append(f"New engine: best installed cycle ({opt['driver']}, {state}, {opt['iterations']} iterations).")
-    lines.append(f"Both deliver {format_number(result['thrust_required_N'])} N per engine on the same aircraft.")
-    lines.append("")
-    rows = []
-    for r in result["comparison"]:
-        pct = "" if r["difference_pct"] is None or r["name"] == "clearance_margin" else \
-            f"{r['difference_pct']:+.1f} %"
-        rows.append((r["description"], format_number(r["previous"]), format_number(r["new"]),
-                     format_number(r["difference"]) if r["difference"] <= 0 else "+" + format_number(r["difference"]),
-                     pct, r["units"] or ""))
-    lines.append(TextTable(("quantity", "previous", "new", "new - previous", "change", "units"), rows, "lrrrrl"))
-    if result["notes"]:
-        lines.append("")
-        lines += [f"Note: {n}" for n in result["notes"]]
-    return lines
