@@ -441,11 +441,92 @@ def pyoptsparse_available(optimizer=None):
     return True
 
 
+def move_to_evaluable_start(prob, fallback, bisections=START_BISECTIONS):
+    """Leave the design variables where the model can be evaluated, moving them towards ``fallback`` if needed.
+
+    When the model raises ``om.AnalysisError`` at the current design (a cycle that cannot exist), the design
+    is moved along the straight line towards ``fallback`` (an evaluable design, e.g. the scenario's initial
+    one) by bisection, to the evaluable point nearest the start found in ``bisections`` halvings. Used before
+    optimizers that cannot start from a failed evaluation (IPOPT stops with "Invalid Number Detected").
+
+    Parameters
+    ----------
+    prob : om.Problem
+        A set-up problem with design variables.
+    fallback : dict
+        {design variable: value} of an evaluable design, in the design variables' units.
+    bisections : int
+        Halvings of the segment.
+
+    Returns
+    -------
+    dict or None
+        ``{"from", "to", "towards", "fraction"}`` when the start was moved, None when it could be evaluated.
+
+    Raises
+    ------
+    om.AnalysisError
+        When the fallback design cannot be evaluated either.
+    """
+    meta = prob.model.get_design_vars(recurse=True, use_prom_ivc=True)
+    names = [n for n in meta if n in fallback]
+    units = {n: meta[n].get("units") for n in names}
+    x0 = {n: np.ravel(prob.get_val(n, units=units[n])).astype(float).copy() for n in names}
+    target = {n: np.broadcast_to(np.asarray(fallback[n], dtype=float), x0[n].shape) for n in names}
+
+    def evaluable(t):
+        for n in names:
+            prob.set_val(n, x0[n] + t * (target[n] - x0[n]), units=units[n])
+        try:
+            prob.run_model()
+        except om.AnalysisError:
+            return False
+        return True
+
+    if evaluable(0.0):
+        return None
+    if not evaluable(1.0):
+        prob.run_model()  # raises the fallback's own error
+    t_bad, t_good = 0.0, 1.0
+    for _ in range(bisections):
+        t = 0.5 * (t_bad + t_good)
+        if evaluable(t):
+            t_good = t
+        else:
+            t_bad = t
+    evaluable(t_good)
+    return {"from": {n: x0[n].tolist() for n in names},
+            "to": {n: (x0[n] + t_good * (target[n] - x0[n])).tolist() for n in names},
+            "towards": {n: np.asarray(target[n]).tolist() for n in names}, "fraction": t_good}
+
+
+def _start_moving_pyoptsparse_driver(**kwargs):
+    """``om.pyOptSparseDriver`` that first moves an unevaluable start towards ``fallback_design``."""
+
+    class StartMovingPyOptSparseDriver(om.pyOptSparseDriver):
+        """pyOptSparse driver whose ``run`` first makes the start evaluable (``move_to_evaluable_start``)."""
+
+        def _declare_options(self):
+            super()._declare_options()
+            self.options.declare("fallback_design", default=None, types=dict, allow_none=True, recordable=False,
+                                 desc="evaluable design {name: value} to move an unevaluable start towards")
+
+        def run(self):
+            """Move the start if the model cannot evaluate it, then optimise."""
+            self.start_moved = None
+            if self.options["fallback_design"]:
+                self.start_moved = move_to_evaluable_start(self._problem(), self.options["fallback_design"])
+            return super().run()
+
+    return StartMovingPyOptSparseDriver(**kwargs)
+
+
 def make_driver(name="SLSQP", maxiter=100, tol=1e-8):
     """Return an optimizer driver.
 
     'SLSQP' (default) is SciPy's SLSQP through ``BackOffSLSQPDriver``; 'SNOPT', 'IPOPT' and
-    'pyoptsparse-SLSQP' use ``om.pyOptSparseDriver`` and need pyoptsparse (not on PyPI).
+    'pyoptsparse-SLSQP' use ``om.pyOptSparseDriver`` (which moves an unevaluable start towards its
+    ``fallback_design`` option first) and need pyoptsparse (not on PyPI).
     """
     from bypassopt.scenario import ScenarioError
 
@@ -459,7 +540,7 @@ def make_driver(name="SLSQP", maxiter=100, tol=1e-8):
         needs = {"IPOPT": "cyipopt (built against an IPOPT library)", "SNOPT": "SNOPT's licensed source"}
         raise ScenarioError(f"optimizer.driver = {name!r}: pyoptsparse is installed but its {opt} optimizer does "
                             f"not load; it needs {needs.get(opt, 'to be built into pyoptsparse')} (see README).")
-    driver = om.pyOptSparseDriver(optimizer=opt, print_results=False)
+    driver = _start_moving_pyoptsparse_driver(optimizer=opt, print_results=False)
     if opt == "SNOPT":
         driver.opt_settings.update({"Major iterations limit": maxiter, "Major optimality tolerance": tol})
     elif opt == "IPOPT":

@@ -278,7 +278,9 @@ def _driver_name(driver):
     kind = type(driver).__name__
     if kind == "BackOffSLSQPDriver":
         return "SciPy SLSQP with back-off"
-    if kind == "pyOptSparseDriver":
+    import openmdao.api as om  # here, not at module level: reports are imported before the model is needed
+
+    if isinstance(driver, om.pyOptSparseDriver):
         return f"{opt} (pyoptsparse)"
     return f"{opt} ({kind})" if opt else kind
 

@@ -267,17 +267,26 @@ def test_ipopt_backs_off_from_the_region_the_model_cannot_evaluate(optimum, work
     _assert_same_optimum(run, ref)
 
 
-def test_ipopt_start_inside_the_unevaluable_region_is_a_reported_failure(workdir, require_pyoptsparse):
-    """A start the model cannot evaluate gives IPOPT no number to begin from: the run fails (not a false optimum).
-
-    IPOPT stops with 'Invalid Number Detected' (-13); the driver result says failure. (The CLI rejects such a
-    scenario before optimising: ``precheck_design``.)
-    """
+def test_ipopt_start_inside_the_unevaluable_region_converges(optimum, workdir, require_pyoptsparse):
+    """A start the model cannot evaluate is first moved towards the scenario's initial design (the driver's
+    ``fallback_design``), then IPOPT converges to SciPy SLSQP's optimum."""
     require_pyoptsparse("IPOPT")
     run = _optimize("IPOPT", start=INSIDE_START)
-    assert not run.success
-    assert run.failures >= 1
-    assert run.inform is not None and run.inform.value == -13
+    assert run.failures >= 1  # the start itself failed
+    _assert_same_optimum(run, optimum("SLSQP"))
+
+
+def test_plain_ipopt_cannot_start_inside_the_unevaluable_region(workdir, require_pyoptsparse):
+    """Without a fallback design, a start the model cannot evaluate gives IPOPT no number to begin from: the run
+    fails (IPOPT's 'Invalid Number Detected', -13), never a false optimum."""
+    require_pyoptsparse("IPOPT")
+    prob, _ = build_best_cycle_problem(driver="IPOPT", reports=False)
+    prob.driver.options["fallback_design"] = None
+    for name, value in INSIDE_START.items():
+        prob.set_val(name, value)
+    result = prob.run_driver()
+    assert not result.success
+    assert prob.driver.pyopt_solution.optInform.value == -13
 
 
 def _bypassopt(*args, cwd):
