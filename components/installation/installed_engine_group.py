@@ -108,6 +108,8 @@ class InstalledEngineGroup(om.Group):
             return
         thrust = np.real(inputs["thrust_required"])
         fn_guess = thrust * (1.0 + NACELLE_DRAG_FRACTION_GUESS)
+        solved_for = getattr(self, "_solve_thrust", None)  # the thrust requirement of the previous solve
+        self._solve_thrust = thrust.copy()
         if not last_solve_succeeded(self):
             converged = getattr(self, "_last_converged", None)
             if converged is not None:  # the last converged solution, scaled to the thrust requirement
@@ -118,7 +120,10 @@ class InstalledEngineGroup(om.Group):
                 outputs["Fn_required"] = fn_guess
                 outputs["W2"] = fn_guess / FN_SPECIFIC_GUESS
             return
-        self._last_converged = {"thrust_required": thrust.copy(), "Fn_required": np.real(outputs["Fn_required"]).copy(),
+        # the outputs are the previous (converged) solve's, so they pair with that solve's thrust requirement,
+        # not with the new input
+        self._last_converged = {"thrust_required": thrust.copy() if solved_for is None else solved_for,
+                                "Fn_required": np.real(outputs["Fn_required"]).copy(),
                                 "W2": np.real(outputs["W2"]).copy()}
         fn = np.real(outputs["Fn_required"])
         stale = ~np.isfinite(fn) | (fn < thrust) | (fn > 2.0 * thrust)
