@@ -39,10 +39,12 @@ def build_parser():
     add_common_options(common)
     parser = Parser(
         prog="bypassopt",
-        description="Pick the best installed turbofan cycle (BPR, FPR, OPR, T4) for an aircraft. "
+        description="Pick the best installed turbofan cycle (BPR, FPR, OPR, Tt4) for an aircraft. "
                     "CAUTION: " + CAUTION,
         epilog="Exit codes: 0 success; 2 bad input (nothing computed or written); 3 optimizer did not "
-               "converge or derivative check failed (files written so far are kept); 1 unexpected error. "
+               "converge or derivative check failed (its results are written, marked so); 1 unexpected error; "
+               "130/143 interrupted by SIGINT/SIGTERM. A run replaces --out only when it finishes (the old "
+               "folder is kept as <out>.previous); a failed or interrupted run leaves --out as it was. "
                "Run 'bypassopt <command> --help' for a command's options.")
     parser.add_argument("--version", action="version", version=f"bypassopt {__version__}")
     sub = parser.add_subparsers(dest="command", metavar="command", parser_class=Parser)
