@@ -382,6 +382,25 @@ class BackOffSLSQPDriver(Driver):
         return not bool(result.success)
 
 
+def driver_succeeded(driver_result):
+    """Return True when a driver run succeeded (OpenMDAO >= 3.27 returns a DriverResult, older a failure flag)."""
+    if isinstance(driver_result, (bool, np.bool_)):
+        return not bool(driver_result)
+    return bool(driver_result.success)
+
+
+def driver_message(driver):
+    """Return the optimizer's closing message: SciPy's result (``BackOffSLSQPDriver``) or pyOptSparse's."""
+    res = getattr(driver, "optimizer_result", None)
+    if res is not None and getattr(res, "message", None) is not None:
+        return str(res.message)
+    sol = getattr(driver, "pyopt_solution", None)
+    inform = getattr(sol, "optInform", None) if sol is not None else None
+    if isinstance(inform, dict):  # older pyOptSparse: {"value": ..., "text": ...}
+        return str(inform.get("text", ""))
+    return str(getattr(inform, "message", "") or "")  # pyOptSparse 2.x: a SolutionInform
+
+
 def run_record(driver, driver_result):
     """Return what a driver's last run did, the same way for every driver (success, message, counts).
 
@@ -402,22 +421,12 @@ def run_record(driver, driver_result):
         ``success``, ``message``, ``iterations`` (None where the optimizer does not report them),
         ``model_evaluations``, ``failed_evaluations``.
     """
-    if isinstance(driver_result, (bool, np.bool_)):
-        success = not bool(driver_result)
-    else:
-        success = bool(driver_result.success)
+    success = driver_succeeded(driver_result)
     own = getattr(driver, "optimizer_result", None)
     if own is not None:
         return {"success": success, "message": str(own.message), "iterations": int(own.nit),
                 "model_evaluations": driver.model_evaluations, "failed_evaluations": driver.failed_evaluations}
-    solution = getattr(driver, "pyopt_solution", None)
-    inform = getattr(solution, "optInform", None) if solution is not None else None
-    if isinstance(inform, dict):  # older pyOptSparse: {"value": ..., "text": ...}
-        message = str(inform.get("text", ""))
-    else:  # pyOptSparse 2.x: a SolutionInform with .message
-        message = str(getattr(inform, "message", "") or "")
-    if not message:
-        message = str(getattr(driver_result, "exit_status", ""))
+    message = driver_message(driver) or str(getattr(driver_result, "exit_status", ""))
     evaluations = int(getattr(driver_result, "model_evals", getattr(driver, "iter_count", 0)))
     return {"success": success, "message": message, "iterations": None, "model_evaluations": evaluations,
             "failed_evaluations": None}

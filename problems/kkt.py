@@ -120,13 +120,17 @@ def kkt_analysis(prob, settings, active_tol=ACTIVE_TOL, method="auto"):
     }
 
 
-def _model_units(prob, name):
-    """Units of an output (by promoted name) in the model."""
-    meta = prob.model.get_io_metadata(metadata_keys=["units"], iotypes="output")
-    return next((m["units"] for m in meta.values() if m["prom_name"] == name), None)
+def model_units(prob, name):
+    """Units of a promoted variable (output or input) as the model computes it."""
+    meta = prob.model.get_io_metadata(metadata_keys=["units"], includes=[name], return_rel_names=False)
+    for path, m in meta.items():
+        if path.split(".")[-1] == name.split(".")[-1]:
+            return m["units"]
+    return None
 
 
-def _factor(from_units, to_units):
+def unit_factor(from_units, to_units):
+    """Multiplier converting a quantity (or a derivative's numerator) from ``from_units`` to ``to_units``."""
     from openmdao.utils.units import unit_conversion
 
     if not from_units or not to_units or from_units == to_units:
@@ -152,12 +156,12 @@ def _openmdao_multipliers(prob, names, info, bounds, obj_name, obj_units, active
     active_bounds = {n for kind, n in names if kind == "bound"}
     if set(om_cons) != active_cons or set(om_dvs) != active_bounds:
         return None
-    to_obj = _factor(_model_units(prob, obj_name), obj_units)
+    to_obj = unit_factor(model_units(prob, obj_name), obj_units)
     lam = []
     for kind, name in names:
         if kind == "con":
             theirs = float(np.ravel(om_cons[name]["multipliers"])[0]) * to_obj
-            theirs /= _factor(_model_units(prob, name), info[name]["units"])
+            theirs /= unit_factor(model_units(prob, name), info[name]["units"])
             lam.append(theirs if info[name]["kind"] == "upper" else -theirs)
         else:
             theirs = float(np.ravel(om_dvs[name]["multipliers"])[0]) * to_obj

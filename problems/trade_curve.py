@@ -1,13 +1,12 @@
 """Trade curve: the best installed cycle re-solved along a sweep of one limit, with its shadow prices."""
 
-import numpy as np
-from openmdao.utils.units import unit_conversion
-
 from dataclasses import replace
+
+import numpy as np
 
 from bypassopt.problems.best_cycle import OBJECTIVES, build_best_cycle_problem
 from bypassopt.problems.drivers import run_record
-from bypassopt.problems.kkt import kkt_analysis
+from bypassopt.problems.kkt import kkt_analysis, model_units, unit_factor
 from bypassopt.scenario import SCHEMA, ScenarioError, load_scenario, validate
 
 #: Limits a trade curve can sweep: scenario key -> (scenario section, model input it sets or None for a
@@ -33,22 +32,6 @@ REPORTED_OUTPUTS = {"nacelle_max_diameter": "m", "clearance_margin": "m", "diame
                     "mission_fuel": "kg", "powerplant_mass": "kg"}
 
 
-def _model_units(prob, name):
-    """Units of a promoted variable as the model computes it."""
-    meta = prob.model.get_io_metadata(metadata_keys=["units"], includes=[name], return_rel_names=False)
-    for path, m in meta.items():
-        if path.split(".")[-1] == name.split(".")[-1]:
-            return m["units"]
-    return None
-
-
-def _factor(from_units, to_units):
-    """Multiplier converting a derivative's numerator from ``from_units`` to ``to_units``."""
-    if not from_units or not to_units or from_units == to_units:
-        return 1.0
-    return unit_conversion(from_units, to_units)[0]
-
-
 def limit_sensitivity(prob, settings, kkt, limit):
     """d(optimum objective)/d(limit), objective units per limit unit, from the multipliers at an optimum.
 
@@ -65,10 +48,10 @@ def limit_sensitivity(prob, settings, kkt, limit):
     limits = settings.limits
     of = [obj_name] + list(limits)
     totals = prob.compute_totals(of=of, wrt=[var], return_format="flat_dict", driver_scaling=False)
-    wrt_factor = 1.0 / _factor(_model_units(prob, var), units)
+    wrt_factor = 1.0 / unit_factor(model_units(prob, var), units)
 
     def d(name, to_units):
-        return float(np.squeeze(totals[(name, var)])) * _factor(_model_units(prob, name), to_units) * wrt_factor
+        return float(np.squeeze(totals[(name, var)])) * unit_factor(model_units(prob, name), to_units) * wrt_factor
 
     sens = d(obj_name, obj_units)
     for name, (kind, _, cunits) in limits.items():

@@ -262,17 +262,6 @@ def station_table(prob, node=0):
     return rows
 
 
-def _driver_message(driver):
-    res = getattr(driver, "optimizer_result", None)
-    if res is not None and getattr(res, "message", None) is not None:
-        return str(res.message)
-    sol = getattr(driver, "pyopt_solution", None)
-    inform = getattr(sol, "optInform", None) if sol is not None else None
-    if isinstance(inform, dict):  # older pyOptSparse
-        return str(inform.get("text", ""))
-    return str(getattr(inform, "message", "") or "")  # pyOptSparse 2.x: SolutionInform
-
-
 def _driver_name(driver):
     opt = driver.options["optimizer"] if "optimizer" in driver.options else None
     kind = type(driver).__name__
@@ -291,13 +280,6 @@ def _saving_words(saving, objective, obj_units):
         return f"would not change the optimum {what.removeprefix('of ')} (to first order)"
     verb = "save" if saving > 0 else "cost"
     return f"would {verb} {format_number(abs(saving), 3)} {obj_units} {what}"
-
-
-def driver_succeeded(driver_result):
-    """Return True when a driver run succeeded: OpenMDAO >= 3.27 returns a DriverResult, older ones a failure flag."""
-    if isinstance(driver_result, (bool, np.bool_)):
-        return not bool(driver_result)
-    return bool(driver_result.success)
 
 
 def optimum_summary(prob, settings, driver_result):
@@ -330,6 +312,8 @@ def optimum_summary(prob, settings, driver_result):
     """
     from bypassopt.problems.kkt import kkt_analysis
 
+    from bypassopt.problems.drivers import driver_message, driver_succeeded
+
     summary = design_summary(prob, scenario=settings.scenario)
     driver = prob.driver
     own = getattr(driver, "optimizer_result", None)  # BackOffSLSQPDriver keeps its own counts
@@ -337,7 +321,7 @@ def optimum_summary(prob, settings, driver_result):
         "driver": _driver_name(driver),
         "success": driver_succeeded(driver_result),
         "exit_status": str(getattr(driver_result, "exit_status", "")),
-        "message": _driver_message(driver),
+        "message": driver_message(driver),
         "iterations": int(own.nit if own is not None else getattr(driver_result, "iter_count", driver.iter_count)),
         "model_evaluations": int(getattr(driver, "model_evaluations", getattr(driver_result, "model_evals", 0))),
         "derivative_evaluations": int(getattr(driver, "derivative_evaluations",

@@ -58,7 +58,8 @@ def run(run, scenario):
     """Find the best installed cycle; return (summary, exit code)."""
     from bypassopt.problems.best_cycle import OBJECTIVES as OBJECTIVE_UNITS
     from bypassopt.problems.best_cycle import build_best_cycle_problem
-    from bypassopt.report import driver_succeeded, optimum_summary
+    from bypassopt.problems.drivers import driver_succeeded
+    from bypassopt.report import optimum_summary
 
     args = run.args
     check_driver(args.driver or scenario["optimizer"]["driver"])
