@@ -5,6 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.coupled_solver import COUPLED_SOLVERS, last_solve_succeeded, set_coupled_solvers
 from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
+from bypassopt.components.cycle.multipoint_group import COOLING_INPUTS
 from bypassopt.components.defaults import INPUT_DEFAULTS
 from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
 from bypassopt.components.options import declare_gas, declare_num_nodes
@@ -74,7 +75,9 @@ class InstalledEngineGroup(om.Group):
         self.add_subsystem("nacelle", NacelleGeometryComp(num_nodes=nn), promotes=["*"])
         self.add_subsystem("drag", NacelleDragComp(num_nodes=nn),
                            promotes_inputs=["*", ("V18_jet", "V18_full"), ("rho18_jet", "rho18_full"),
-                                            ("Ts18_jet", "Ts18_full"), ("Mach18_jet", "Mach18_full")],
+                                            ("Ts18_jet", "Ts18_full"), ("Mach18_jet", "Mach18_full"),
+                                            ("V8_jet", "V8_full"), ("rho8_jet", "rho8_full"),
+                                            ("Ts8_jet", "Ts8_full"), ("Mach8_jet", "Mach8_full")],
                            promotes_outputs=["*"])
         self.add_subsystem("installed", InstalledPerformanceComp(num_nodes=nn), promotes=["*"])
         self.add_subsystem("mass", EngineMassComp(num_nodes=nn), promotes=["*"])
@@ -83,8 +86,10 @@ class InstalledEngineGroup(om.Group):
             self.add_subsystem("mission", MissionFuelComp(num_nodes=nn, num_engines=self.options["num_engines"]),
                                promotes_inputs=["*", ("cruise_speed", "V0")], promotes_outputs=["*"])
         self.set_input_defaults("Mach0", 0.78 * np.ones(nn))
+        given = self.options["cooling_model"] == "given"
         for name, (value, units) in INPUT_DEFAULTS.items():
-            self.set_input_defaults(name, value * np.ones(nn), units=units)
+            if not (given and name in COOLING_INPUTS):  # the correlation's inputs exist only with it
+                self.set_input_defaults(name, value * np.ones(nn), units=units)
 
         set_coupled_solvers(self, self.options["coupled_solver"], nn)
 

@@ -29,6 +29,10 @@ _INPUTS = (
     ("rho18_jet", 0.4, 0.0, 5.0, False, "kg/m**3", "Static density of the fully expanded bypass jet"),
     ("Ts18_jet", 240.0, 100.0, 1000.0, True, "K", "Static temperature of the fully expanded bypass jet"),
     ("Mach18_jet", 1.0, 0.0, 2.0, True, None, "Mach number of the fully expanded bypass jet"),
+    ("V8_jet", 550.0, 0.0, 1200.0, False, "m/s", "Fully expanded core-jet velocity"),
+    ("rho8_jet", 0.13, 0.0, 5.0, False, "kg/m**3", "Static density of the fully expanded core jet"),
+    ("Ts8_jet", 650.0, 100.0, 1200.0, True, "K", "Static temperature of the fully expanded core jet"),
+    ("Mach8_jet", 1.1, 0.0, 2.0, True, None, "Mach number of the fully expanded core jet"),
     ("core_cowl_length", 1.25, 0.01, 10.0, True, "m", "Length of the core cowl exposed to the bypass jet"),
     ("core_cowl_wetted_area", 4.0, 0.0, 100.0, True, "m**2", "Wetted area of the exposed core cowl"),
     ("plug_length", 0.6, 0.01, 10.0, True, "m", "Length of the core-nozzle plug"),
@@ -40,18 +44,27 @@ _INPUTS = (
 _OUTPUTS = (
     ("fan_cowl_drag", "External friction and form drag of the fan cowl in the free stream"),
     ("core_cowl_drag", "Scrubbing drag of the exposed core cowl in the bypass jet"),
-    ("plug_drag", "Scrubbing drag of the core-nozzle plug in the bypass jet"),
+    ("plug_drag", "Scrubbing drag of the core-nozzle plug in the core jet"),
     ("pylon_drag", "Pylon drag"),
     ("nacelle_drag", "Total nacelle drag: fan cowl + core cowl + plug + pylon"),
 )
 
 _FAN_IN = ("q0", "Mach0", "Re_per_m0", "fan_cowl_length", "nacelle_max_diameter",
            "fan_cowl_wetted_area", "nacelle_interference_factor")
-_JET_IN = ("V18_jet", "rho18_jet", "Ts18_jet", "Mach18_jet")
+#: Scrubbed part -> ARP755 station of the fully expanded jet that washes it: the core cowl sits in the bypass
+#: jet (18), the plug in the core jet (8).
+_SCRUBBED = {"core_cowl": "18", "plug": "8"}
+
+
+def _jet_inputs(st):
+    """Names of the fully expanded jet state of station ``st``: velocity, density, temperature, Mach."""
+    return (f"V{st}_jet", f"rho{st}_jet", f"Ts{st}_jet", f"Mach{st}_jet")
+
+
 _DEPENDS = {
     "fan_cowl_drag": _FAN_IN,
-    "core_cowl_drag": _JET_IN + ("core_cowl_length", "core_cowl_wetted_area"),
-    "plug_drag": _JET_IN + ("plug_length", "plug_wetted_area"),
+    "core_cowl_drag": _jet_inputs("18") + ("core_cowl_length", "core_cowl_wetted_area"),
+    "plug_drag": _jet_inputs("8") + ("plug_length", "plug_wetted_area"),
     "pylon_drag": ("q0", "pylon_drag_area"),
 }
 _DEPENDS["nacelle_drag"] = tuple(dict.fromkeys(sum(_DEPENDS.values(), ())))
@@ -71,26 +84,30 @@ class NacelleDragComp(om.ExplicitComponent):
     :math:`C_f = 0.455/(\log_{10}Re)^{2.58}` (Schlichting, *Boundary-Layer Theory*) and the
     compressibility factor :math:`K_M = (1 + 0.144 M^2)^{-0.65}` (Raymer, from memory).
 
-    Core cowl and plug, scrubbed by the bypass jet (common practice; field reference section 8.1):
+    Core cowl and plug, each scrubbed by the jet it sits in (common practice; field reference section
+    8.1): the core cowl by the bypass jet (:math:`j = 18`), the plug by the core jet (:math:`j = 8`):
 
     .. math::
-        D_{s} = q_{18}\, C_f(Re_{18})\, K_M(M_{18})\, S_{s}, \qquad
-        q_{18} = \tfrac12 \rho_{18} V_{18}^2, \qquad
-        Re_{18} = \frac{\rho_{18} V_{18} L_s}{\mu(T_{s18})}
+        D_{s} = q_{j}\, C_f(Re_{s})\, K_M(M_{j})\, S_{s}, \qquad
+        q_{j} = \tfrac12 \rho_{j} V_{j}^2, \qquad
+        Re_{s} = \frac{\rho_{j} V_{j} L_s}{\mu(T_{sj})}
 
-    evaluated with the fully expanded bypass-jet static conditions, the viscosity from Sutherland's
-    law with the ISO 2533 constants. These surfaces take form factor 1 and no interference factor:
+    evaluated with that jet's fully expanded static conditions, the viscosity from Sutherland's
+    law with the ISO 2533 constants of air (for the lean combustion products of the core jet an
+    approximation; the friction coefficient depends on it only through :math:`\log_{10} Re`).
+    These surfaces take form factor 1 and no interference factor:
     they are slender surfaces washed by a nearly parallel jet, and the build-up's form factors and
     interference factors describe bodies in a free stream (a modelling choice, common practice).
     The scrubbing drag is an internal-flow loss; book it against gross thrust.
 
-    Pylon: :math:`D_{py} = q_0 (C_D S)_{py}` with a given drag area (demo value 0.05 m**2).
+    Pylon: :math:`D_{py} = q_0 (C_D S)_{py}` with a given drag area (demo value 0.025 m**2).
 
     Total: :math:`D_{nac} = D_{fc} + D_{cc} + D_{p} + D_{py}`. Base, gap and excrescence
     increments are not modelled.
 
     Valid range: every wetted-length Reynolds number within 1e5-1e9 (checked), free-stream Mach
-    0-0.95, jet Mach 0-2, fan-cowl length/diameter 0.5-10.
+    0-0.95, jet Mach 0-2, jet static temperature 100-1000 K (Sutherland's law as implemented in
+    ``skin_friction``), fan-cowl length/diameter 0.5-10.
     """
 
     def initialize(self):
@@ -134,15 +151,16 @@ class NacelleDragComp(om.ExplicitComponent):
         t["ld"] = L_fc / inputs["nacelle_max_diameter"]
         t["FF"], t["dFF"] = nacelle_form_factor(t["ld"], "fan_cowl_length/nacelle_max_diameter")
 
-        rho = inputs["rho18_jet"]
-        V = inputs["V18_jet"]
-        t["mu"], t["dmu"] = sutherland_viscosity(inputs["Ts18_jet"], "Ts18_jet")
-        t["q18"] = 0.5 * rho * V ** 2
-        t["Re_unit18"] = rho * V / t["mu"]
-        t["K18"], t["dK18"] = compressibility_factor(inputs["Mach18_jet"], "Mach18_jet")
-        for part in ("core_cowl", "plug"):
-            Re = t["Re_unit18"] * inputs[f"{part}_length"]
-            check_validity(f"{part} Reynolds number rho18_jet*V18_jet*{part}_length/mu", Re, 1e5, 1e9,
+        for part, st in _SCRUBBED.items():
+            V_in, rho_in, T_in, M_in = _jet_inputs(st)
+            rho = inputs[rho_in]
+            V = inputs[V_in]
+            t[f"mu_{part}"], t[f"dmu_{part}"] = sutherland_viscosity(inputs[T_in], T_in)
+            t[f"q_{part}"] = 0.5 * rho * V ** 2
+            t[f"Re_unit_{part}"] = rho * V / t[f"mu_{part}"]
+            t[f"K_{part}"], t[f"dK_{part}"] = compressibility_factor(inputs[M_in], M_in)
+            Re = t[f"Re_unit_{part}"] * inputs[f"{part}_length"]
+            check_validity(f"{part} Reynolds number {rho_in}*{V_in}*{part}_length/mu", Re, 1e5, 1e9,
                            where=where)
             t[f"Re_{part}"] = Re
             t[f"cf_{part}"], t[f"dcf_{part}"] = schlichting_cf(Re)
@@ -154,8 +172,8 @@ class NacelleDragComp(om.ExplicitComponent):
         outputs["fan_cowl_drag"] = (inputs["q0"] * t["cf0"] * t["K0"] * t["FF"]
                                     * inputs["nacelle_interference_factor"]
                                     * inputs["fan_cowl_wetted_area"])
-        for part in ("core_cowl", "plug"):
-            outputs[f"{part}_drag"] = (t["q18"] * t[f"cf_{part}"] * t["K18"]
+        for part in _SCRUBBED:
+            outputs[f"{part}_drag"] = (t[f"q_{part}"] * t[f"cf_{part}"] * t[f"K_{part}"]
                                        * inputs[f"{part}_wetted_area"])
         outputs["pylon_drag"] = inputs["q0"] * inputs["pylon_drag_area"]
         outputs["nacelle_drag"] = (outputs["fan_cowl_drag"] + outputs["core_cowl_drag"]
@@ -182,22 +200,22 @@ class NacelleDragComp(om.ExplicitComponent):
         d["fan_cowl_drag", "fan_cowl_wetted_area"] = q0 * cf0 * K0 * FF * Q
         d["fan_cowl_drag", "nacelle_interference_factor"] = q0 * cf0 * K0 * FF * S_fc
 
-        # Core cowl and plug in the bypass jet.
-        rho = inputs["rho18_jet"]
-        V = inputs["V18_jet"]
-        mu = t["mu"]
-        q18, K18 = t["q18"], t["K18"]
-        for part in ("core_cowl", "plug"):
+        # Core cowl in the bypass jet, plug in the core jet.
+        for part, st in _SCRUBBED.items():
+            V_in, rho_in, T_in, M_in = _jet_inputs(st)
             of = f"{part}_drag"
+            rho = inputs[rho_in]
+            V = inputs[V_in]
             S = inputs[f"{part}_wetted_area"]
             L = inputs[f"{part}_length"]
+            mu, q, K = t[f"mu_{part}"], t[f"q_{part}"], t[f"K_{part}"]
             cf, dcf, Re = t[f"cf_{part}"], t[f"dcf_{part}"], t[f"Re_{part}"]
-            d[of, "rho18_jet"] = K18 * S * (0.5 * V ** 2 * cf + q18 * dcf * V * L / mu)
-            d[of, "V18_jet"] = K18 * S * (rho * V * cf + q18 * dcf * rho * L / mu)
-            d[of, "Ts18_jet"] = -K18 * S * q18 * dcf * Re * t["dmu"] / mu
-            d[of, "Mach18_jet"] = q18 * cf * t["dK18"] * S
-            d[of, f"{part}_length"] = q18 * dcf * t["Re_unit18"] * K18 * S
-            d[of, f"{part}_wetted_area"] = q18 * cf * K18
+            d[of, rho_in] = K * S * (0.5 * V ** 2 * cf + q * dcf * V * L / mu)
+            d[of, V_in] = K * S * (rho * V * cf + q * dcf * rho * L / mu)
+            d[of, T_in] = -K * S * q * dcf * Re * t[f"dmu_{part}"] / mu
+            d[of, M_in] = q * cf * t[f"dK_{part}"] * S
+            d[of, f"{part}_length"] = q * dcf * t[f"Re_unit_{part}"] * K * S
+            d[of, f"{part}_wetted_area"] = q * cf * K
 
         # Pylon.
         d["pylon_drag", "q0"] = inputs["pylon_drag_area"]

@@ -68,6 +68,27 @@ def test_coupled_solve_converges_from_poor_guesses(reference, w2_guess, drag_gue
                                                      rel=THRUST_RTOL)
 
 
+def test_scrubbed_surfaces_see_their_own_jets():
+    """Wiring of the nacelle drag: the core cowl is scrubbed by the fully expanded bypass jet (station 18),
+    the plug by the fully expanded core jet (station 8), both the nozzles' ideal fully expanded states
+    (``*_full``), not the effective jet velocities ``V8_jet``/``V18_jet`` of the cycle. The plug drag is
+    then field-reference 8.1's scrubbing formula with the core-jet state, written out by hand."""
+    prob = build()
+    prob.run_model()
+    for st in ("8", "18"):
+        for q in ("V", "rho", "Ts", "Mach"):
+            assert prob.get_val(f"engine.drag.{q}{st}_jet")[0] == prob.get_val(f"{q}{st}_full")[0], (q, st)
+    assert prob.get_val("engine.drag.V8_jet")[0] != prob.get_val("V8_jet")[0]
+    g = {n: prob.get_val(n)[0] for n in ("V8_full", "rho8_full", "Ts8_full", "Mach8_full", "plug_length",
+                                         "plug_wetted_area")}
+    mu = 1.458e-6 * g["Ts8_full"] ** 1.5 / (g["Ts8_full"] + 110.4)  # Sutherland, ISO 2533 constants
+    re = g["rho8_full"] * g["V8_full"] * g["plug_length"] / mu
+    cf = 0.455 / np.log10(re) ** 2.58  # Prandtl-Schlichting (Schlichting, Boundary-Layer Theory)
+    k_m = (1.0 + 0.144 * g["Mach8_full"] ** 2) ** -0.65  # Raymer's compressibility factor (from memory)
+    plug = 0.5 * g["rho8_full"] * g["V8_full"] ** 2 * cf * k_m * g["plug_wetted_area"]
+    assert prob.get_val("plug_drag")[0] == pytest.approx(plug, rel=1e-12)
+
+
 @pytest.mark.parametrize("nn", [1, 2])
 def test_totals_match_complex_step(nn):
     """Totals of installed TSFC and mission fuel through the coupled Newton/direct solve agree with complex
