@@ -12,8 +12,11 @@ from bypassopt.components.validation import InputRangeError
 ambiance = importlib.import_module("ambiance")
 
 # ambiance takes tabulated layer-base pressures (22632.1 Pa at 11 km) where the component uses the
-# closed-form continuation (22632.04 Pa): the two differ by ~2e-6 above 11 km (field-reference 1.3).
-RTOL_AMBIANCE = 1e-5
+# closed-form continuation (22632.04 Pa): the two differ by ~2e-6 above 11 km (field-reference 1.3). Measured
+# on the grid below: 1.77e-6 in pressure and density; about twice that.
+RTOL_AMBIANCE = 4e-6
+# Temperature, speed of sound and viscosity follow from the same layer formulas and constants: measured 4e-16.
+RTOL_SAME_FORMULA = 1e-12
 # Field-reference 1.3 prints the table to 6-7 significant figures.
 RTOL_TABLE = 5e-6
 RTOL_EXACT = 1e-12
@@ -39,11 +42,11 @@ def test_matches_ambiance_on_fine_grid():
     prob = _run(H)
     # ambiance.Atmosphere takes GEOMETRIC height: convert geopotential H first (field-reference 1.3 pitfall).
     ref = ambiance.Atmosphere(ambiance.Atmosphere.geop2geom_height(H))
-    np.testing.assert_allclose(prob.get_val("Ts0", units="K"), ref.temperature, rtol=RTOL_AMBIANCE)
+    np.testing.assert_allclose(prob.get_val("Ts0", units="K"), ref.temperature, rtol=RTOL_SAME_FORMULA)
     np.testing.assert_allclose(prob.get_val("Ps0", units="Pa"), ref.pressure, rtol=RTOL_AMBIANCE)
     np.testing.assert_allclose(prob.get_val("rho0", units="kg/m**3"), ref.density, rtol=RTOL_AMBIANCE)
-    np.testing.assert_allclose(prob.get_val("a0_std", units="m/s"), ref.speed_of_sound, rtol=RTOL_AMBIANCE)
-    np.testing.assert_allclose(prob.get_val("mu0", units="Pa*s"), ref.dynamic_viscosity, rtol=RTOL_AMBIANCE)
+    np.testing.assert_allclose(prob.get_val("a0_std", units="m/s"), ref.speed_of_sound, rtol=RTOL_SAME_FORMULA)
+    np.testing.assert_allclose(prob.get_val("mu0", units="Pa*s"), ref.dynamic_viscosity, rtol=RTOL_SAME_FORMULA)
 
 
 # ISO 2533:1975 values at geopotential altitude, as listed in field-reference section 1.3 (computed there

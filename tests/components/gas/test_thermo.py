@@ -24,9 +24,10 @@ ATOL_R_4DP = 5e-5  # R = 287.0512 printed with 4 decimals (field-reference 2.3)
 # Mole fractions printed with 4 decimals (field-reference 2.6): one unit of the last digit, because
 # O2 at FAR 0.02, y = 2.00 computes to 0.144549 and is printed 0.1446 (on the rounding edge).
 ATOL_MOLE_4DP = 1e-4
-# Independent real-gas reference (CoolProp) vs NASA polynomials: 1 %; the observed
-# largest difference over 250-1500 K is about 0.28 % (field-reference 2.5 suggests about 0.2 %).
-RTOL_COOLPROP = 1e-2
+# Independent real-gas reference (CoolProp 'Air') vs NASA polynomials over 250-1500 K: measured largest
+# difference 0.275 % against the ideal-gas cp0 and 0.279 % against cp at 1 atm (both at 1275 K; CoolProp
+# 8.0.0); about twice that (field-reference 2.5 suggests about 0.2 %).
+RTOL_COOLPROP = 6e-3
 # Stoichiometric fuel-air ratios are printed to 4 significant figures in field-reference 2.4.
 RTOL_STOICH = 2e-4
 # Burner oracle values (field-reference 2.7) are printed to 5 significant figures.

@@ -11,7 +11,9 @@ from bypassopt.components.validation import InputRangeError
 
 EXACT_RTOL = 1e-10
 CHECK_VALUE_RTOL = 5e-5  # field-reference 7.2 prints areas and diameters to 5 figures
-REAL_GAS_RTOL = 1e-3  # variable cp at 288 K changes the mass-flow function by less than 0.1 %
+# Variable cp at 288 K against field-reference 7.2's constant-gamma values: measured 1.94e-4 (area) and
+# 1.17e-4 (diameter) over the three cases; about twice the larger.
+REAL_GAS_RTOL = 4e-4
 PARTIALS_TOL = 1e-10
 SEED = 4242
 
@@ -60,7 +62,7 @@ def test_fan_size_field_reference(w_corr, mach, nu, area, diameter):
     """Fan-face area and tip diameter at ISA sea-level total state (so W2 = corrected flow).
 
     Constant-gamma air (gamma 1.4, R 287.05287): field-reference 7.2 values to their 5 figures, and the
-    mass-flow-function formula written here to 1e-10. Thermally perfect air: within 0.1 %.
+    mass-flow-function formula written here to 1e-10. Thermally perfect air: within 0.04 % (REAL_GAS_RTOL).
     """
     values = dict(W2=w_corr, Tt2=T_SL, Pt2=P_SL, fan_face_mach=mach, fan_hub_tip_ratio=nu)
     prob = _problem(gas=CPG_AIR, **values)

@@ -109,9 +109,10 @@ def test_reengining_saves_fuel():
     """A modern cycle on the same airframe needs markedly less fuel than the previous generation.
 
     Common practice (field-reference 11.2, no single source): re-engining a single-aisle airliner saves about
-    15-20 % block fuel, about two thirds of it from the engine, i.e. roughly 10-14 % from the engine alone.
-    Bands asserted here (common practice, widened for a design-point-only model): installed TSFC 8-20 %
-    lower and mission fuel 7-22 % lower. The model gives 13.7 % and 11.6 % (top of climb as cruise).
+    15-20 % block fuel, about two thirds of it from the engine, i.e. roughly 10-13 % from the engine alone;
+    with "about two thirds" read as 0.6-0.7, 9-14 % is the mission-fuel band asserted here. No outside value
+    gives the installed-TSFC share alone: its 8-20 % band is a plausibility band (common practice). The model
+    gives 13.6 % and 11.4 % (top of climb as cruise).
     Engines from scenario.md (invented): previous BPR 5.5, FPR 1.70, OPR 32, T4 1550 K with every
     polytropic efficiency 0.025 lower; modern BPR 11, FPR 1.45, OPR 45, T4 1700 K; same 24 kN requirement.
     """
@@ -123,7 +124,7 @@ def test_reengining_saves_fuel():
     tsfc_saving = 1.0 - modern.get_val("installed_TSFC")[0] / previous.get_val("installed_TSFC")[0]
     fuel_saving = 1.0 - modern.get_val("mission_fuel")[0] / previous.get_val("mission_fuel")[0]
     assert 0.08 < tsfc_saving < 0.20, f"installed TSFC saving {tsfc_saving:.3f}"
-    assert 0.07 < fuel_saving < 0.22, f"mission fuel saving {fuel_saving:.3f}"
+    assert 0.09 < fuel_saving < 0.14, f"mission fuel saving {fuel_saving:.3f}"
     # the bigger fan: more drag and mass per engine, which eat part of the TSFC gain
     assert modern.get_val("nacelle_drag")[0] > previous.get_val("nacelle_drag")[0]
     assert modern.get_val("powerplant_mass")[0] > previous.get_val("powerplant_mass")[0]
