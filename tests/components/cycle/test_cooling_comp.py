@@ -107,11 +107,13 @@ def test_no_cooling_below_metal_temperature():
     assert np.all(np.diff(psi_v) > 0.0)
 
 
-def test_default_calibration():
-    """The default constants give the common-practice total HPT cooling.
-
-    Common practice (field-reference 6.2): total HPT cooling 15-20 % of core flow at T4 = 1750-1850 K.
-    Defaults: K = 0.08 per row, metal 1300 K vane / 1250 K rotor, rotor-relative ratio 0.92, Tt3 = 850 K.
+def test_default_constants_reproduce_their_calibration():
+    """CALIBRATION CHECK, not a verification: the default K = 0.08 per row was chosen (CoolingBleedComp
+    docstring; K is not published, field-reference 6.1) so that total HPT cooling is 15-20 % of core flow at
+    T4 = 1750-1850 K, the common-practice range of field-reference 6.2. Passing shows only that the defaults
+    still do that (15.2 % and 18.8 %). Defaults: metal 1300 K vane / 1250 K rotor, rotor-relative ratio 0.92;
+    Tt3 = 850 K. The vane share is compared with the common-practice 6-10 % of field-reference 6.2, loosely
+    (8.0 % and 9.8 %).
     """
     prob = _problem(2)
     prob.set_val("Tt3", 850.0)
@@ -120,7 +122,45 @@ def test_default_calibration():
     total = prob.get_val("cooling_frac_vane") + prob.get_val("cooling_frac_rotor")
     assert np.all((total > 0.15) & (total < 0.20))
     vane = prob.get_val("cooling_frac_vane")
-    assert np.all((vane > 0.06) & (vane < 0.11))  # first-stage vane 6-10 % (common practice), loosely
+    assert np.all((vane > 0.06) & (vane < 0.11))
+
+
+def _correlation_sweep(name, values, **fixed):
+    """Run the correlation with one input swept over ``values`` and the others at ``fixed`` (or defaults)."""
+    n = len(values)
+    prob = _problem(n)
+    for key, val in {"Tt3": 800.0, "Tt4": 1700.0, **fixed}.items():
+        prob.set_val(key, val * np.ones(n))
+    prob.set_val(name, values)
+    prob.run_model()
+    return prob.get_val("cooling_frac_vane"), prob.get_val("cooling_frac_rotor")
+
+
+def test_coolant_need_follows_the_heat_balance():
+    """Trends any convective-cooling model must show, whatever its constant K (heat balance of a cooled
+    blade, Horlock 2003 sec. 5.2; field-reference 6.1): more coolant for hotter gas, for hotter coolant and
+    for a lower allowable metal temperature, in proportion to K; none needed as the gas approaches the metal
+    temperature, and, as the coolant approaches it, growing as 1/(T_metal - T_coolant), without bound."""
+    n = 6
+    vane, rotor = _correlation_sweep("Tt4", np.linspace(1500.0, 1900.0, n))
+    assert np.all(np.diff(vane) > 0.0) and np.all(np.diff(rotor) > 0.0)
+    vane, rotor = _correlation_sweep("Tt3", np.linspace(650.0, 900.0, n))
+    assert np.all(np.diff(vane) > 0.0) and np.all(np.diff(rotor) > 0.0)
+    vane, _ = _correlation_sweep("vane_metal_temperature", np.linspace(1150.0, 1400.0, n))
+    assert np.all(np.diff(vane) < 0.0)
+    _, rotor = _correlation_sweep("rotor_metal_temperature", np.linspace(1150.0, 1400.0, n))
+    assert np.all(np.diff(rotor) < 0.0)
+    K = np.linspace(0.02, 0.12, n)
+    vane, _ = _correlation_sweep("vane_cooling_constant", K)
+    np.testing.assert_allclose(vane / K, vane[0] / K[0], rtol=RTOL_EXACT)
+    # gas at the metal temperature: (almost) nothing; coolant close to the metal temperature: very much
+    vane, _ = _correlation_sweep("Tt4", np.array([1300.0, 1300.0 + 1e-3]))
+    assert np.all(vane < 1e-3)
+    # (small K, so the extractions stay below the component's limit of half the core flow)
+    vane, rotor = _correlation_sweep("Tt3", np.array([1230.0, 1249.0]), Tt4=1800.0, vane_cooling_constant=1e-3,
+                                     rotor_cooling_constant=1e-3)
+    assert rotor[1] / rotor[0] == pytest.approx((1250.0 - 1230.0) / (1250.0 - 1249.0), rel=RTOL_SMOOTHING)
+    assert np.all(vane < rotor)  # vane metal 1300 K: further from the coolant
 
 
 def test_given_model():
