@@ -1,0 +1,177 @@
+"""Installed engine designed at top of climb, checked at a hot-day take-off and flown at mid-cruise."""
+
+import numpy as np
+import openmdao.api as om
+
+from bypassopt.components.coupled_solver import last_solve_succeeded, set_coupled_solvers
+from bypassopt.components.cycle.cooling_comp import CoolingBleedComp
+from bypassopt.components.cycle.flow_capacity_comp import FlowCapacityComp
+from bypassopt.components.cycle.multipoint_group import COOLING_INPUTS, SHARED_INPUTS
+from bypassopt.components.cycle.off_design_group import GEOMETRY, OffDesignGroup
+from bypassopt.components.defaults import INPUT_DEFAULTS
+from bypassopt.components.mission.cruise_thrust_comp import CruiseThrustComp
+from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
+from bypassopt.components.options import declare_gas, declare_num_nodes
+
+from .installed_engine_group import InstalledEngineGroup
+from .installed_performance_comp import InstalledPerformanceComp
+from .nacelle_drag_comp import _INPUTS as DRAG_INPUTS
+from .nacelle_drag_comp import NacelleDragComp
+
+#: The off-design points and their default flight condition (the demo's, shared/scenario.md; invented):
+#: name -> {input: (value, units)}.
+POINT_DEFAULTS = {
+    "takeoff": {"altitude": (0.0, "m"), "Mach0": (0.25, None), "dT_isa": (15.0, "K"), "Fn_required": (105.0e3, "N")},
+    "cruise": {"altitude": (10668.0, "m"), "Mach0": (0.78, None), "dT_isa": (0.0, "K")},
+}
+TAKEOFF, CRUISE = "takeoff", "cruise"
+
+#: Outputs of each off-design point promoted as ``<point>:<name>``.
+POINT_OUTPUTS = ("Tt41", "Tt3", "Tt4", "TSFC", "FPR", "OPR", "BPR", "W2", "fuel_flow", "Fn_specific",
+                 "W3_corrected", "V0", "q0", "Re_per_m0")
+
+#: Cruise installation outputs promoted as ``cruise:<name>``.
+CRUISE_INSTALLED_OUTPUTS = ("nacelle_drag", "installed_thrust", "installed_TSFC")
+
+#: Jet states the nacelle drag reads: drag-component input -> cruise cycle output (fully expanded bypass jet for
+#: the core cowl, core jet for the plug).
+JET_INPUTS = {"V18_jet": "V18_full", "rho18_jet": "rho18_full", "Ts18_jet": "Ts18_full", "Mach18_jet": "Mach18_full",
+              "V8_jet": "V8_full", "rho8_jet": "rho8_full", "Ts8_jet": "Ts8_full", "Mach8_jet": "Mach8_full"}
+
+#: Start value of the cruise thrust (first solve, or after a failed one) as a fraction of the top-of-climb thrust
+#: requirement: cruise needs less thrust than the end of climb (common practice; about 0.8 on the demo).
+CRUISE_THRUST_GUESS = 0.85
+
+#: Outer Newton (couplings between the points: cooling sized at take-off, cruise thrust from the mission).
+OUTER_ATOL = 1e-8
+OUTER_RTOL = 1e-12
+OUTER_MAXITER = 15
+OUTER_SUB_SOLVES = 0
+
+
+class InstalledMultipointGroup(om.Group):
+    r"""One installed engine per node: designed at top of climb, checked at take-off, flown at mid-cruise.
+
+    **Design point** (subsystem ``design``, names without prefix): ``InstalledEngineGroup`` without its
+    mission (top of climb: the cycle design and sizing point, common practice; inputs ``altitude``,
+    ``Mach0``, ``dT_isa``, ``thrust_required``, the cycle choices ``BPR``, ``FPR``, ``OPR``, ``Tt4``, every
+    engine and installation input) plus ``FlowCapacityComp``, whose outputs fix the engine's geometry: HPT
+    and LPT nozzle-guide-vane flow capacities, nozzle throat areas, booster temperature-rise ratio. Its
+    outputs keep their plain names (``Tt41``, ``Tt3``, ``installed_TSFC``, ``clearance_margin``,
+    ``powerplant_mass``, ...): they are the top-of-climb values.
+
+    **Take-off point** (subsystem ``takeoff``; inputs ``takeoff:altitude``, ``takeoff:Mach0``,
+    ``takeoff:dT_isa`` and the uninstalled net thrust per engine ``takeoff:Fn_required``): the designed
+    engine matched map-free (``OffDesignGroup``, power set by the thrust; field-reference 12.2). Outputs
+    ``takeoff:Tt41``, ``takeoff:Tt3``, ``takeoff:Tt4``, ... (``POINT_OUTPUTS``). A hot-day take-off is where
+    the turbine-entry and compressor-exit temperatures bind (common practice).
+
+    **Turbine cooling** is sized at the take-off point: ``CoolingBleedComp`` (correlation) at ``takeoff:Tt3``
+    and ``takeoff:Tt4`` gives one pair of fractions (the cooling holes are geometry) used at every point.
+
+    **Cruise point** (subsystem ``cruise``; inputs ``cruise:altitude``, ``cruise:Mach0``, ``cruise:dT_isa``):
+    the same engine matched at the thrust the airframe needs at mid-cruise plus its own nacelle drag at the
+    cruise condition. ``CruiseThrustComp`` gives the airframe drag per engine at half the design range
+    (weight over L/D; ``cruise:thrust_required``); ``NacelleDragComp`` (subsystem ``cruise_drag``) the nacelle
+    drag with the design's nacelle geometry, the cruise flight condition and the cruise jets;
+    ``InstalledPerformanceComp`` (``cruise_installed``) books it as a thrust debit: ``cruise:Fn_required`` =
+    ``cruise:thrust_required + cruise:nacelle_drag``, ``cruise:installed_TSFC``.
+
+    **Mission** (``MissionFuelComp``, jet Breguet in closed form): the cruise is flown at the cruise point's
+    installed TSFC and true airspeed (``cruise:V0``), i.e. one Breguet segment whose TSFC is taken at the
+    mid-cruise mass. Outputs ``mission_fuel``, ``takeoff_mass``, ``mtow_margin``, ``cruise_fuel``, ...
+    The mission and the cruise thrust form a loop (the fuel sets the mass, the mass the thrust, the thrust
+    the TSFC), as do the cooling and the design; one Newton solver (``om.DirectSolver``) closes both,
+    re-converging every point's own solver inside each iteration (``max_sub_solves``), so total derivatives
+    are taken through every point.
+
+    Nodes are independent engine designs (``num_nodes``); the points are flight conditions of one engine.
+    Raises ``om.AnalysisError`` where a point cannot be matched (naming the point and cause, from
+    ``OffDesignGroup`` and the elements' range checks).
+    """
+
+    def initialize(self):
+        """Declare options."""
+        declare_num_nodes(self.options)
+        declare_gas(self.options)
+        self.options.declare("num_engines", types=int, default=2, desc="engines on the aircraft")
+
+    def setup(self):
+        """Assemble the points, the cooling sizing, the cruise installation and the mission."""
+        nn = self.options["num_nodes"]
+        gas = self.options["gas"]
+        n_eng = self.options["num_engines"]
+        ones = np.ones(nn)
+
+        design = om.Group()
+        design.add_subsystem("engine", InstalledEngineGroup(num_nodes=nn, gas=gas, include_mission=False,
+                                                            cooling_model="given", num_engines=n_eng),
+                             promotes=["*"])
+        design.add_subsystem("capacity", FlowCapacityComp(num_nodes=nn), promotes=["*"])
+        self.add_subsystem("design", design, promotes=["*"])
+
+        for point in (TAKEOFF, CRUISE):
+            p_in = list(SHARED_INPUTS) + [(k, f"{point}:{k}") for k in ("altitude", "Mach0", "dT_isa", "Fn_required")]
+            p_in += [(f"{k}_design", k) for k in GEOMETRY]
+            p_in += [(f"{k}_design", k) for k in ("FPR", "OPR", "BPR", "booster_PR", "Tt4", "Tt2", "Pt2")]
+            p_in += [("Fn_design", "Fn_required")]
+            self.add_subsystem(point, OffDesignGroup(num_nodes=nn, gas=gas, power_setting="thrust"),
+                               promotes_inputs=p_in,
+                               promotes_outputs=[(k, f"{point}:{k}") for k in POINT_OUTPUTS])
+            if point == TAKEOFF:
+                self.add_subsystem("cooling_sizing", CoolingBleedComp(num_nodes=nn, gas=gas,
+                                                                      cooling_model="correlation"),
+                                   promotes_inputs=list(COOLING_INPUTS) + ["customer_bleed_frac"])
+                self.connect("takeoff:Tt3", "cooling_sizing.Tt3")
+                self.connect("takeoff:Tt4", "cooling_sizing.Tt4")
+
+        drag = NacelleDragComp(num_nodes=nn)
+        drag_inputs = [n for n, *_ in DRAG_INPUTS if n not in ("q0", "Mach0", "Re_per_m0")]
+        self.add_subsystem("cruise_drag", drag,
+                           promotes_inputs=[n for n in drag_inputs if n not in JET_INPUTS]
+                           + [("q0", "cruise:q0"), ("Mach0", "cruise:Mach0"), ("Re_per_m0", "cruise:Re_per_m0")],
+                           promotes_outputs=[("nacelle_drag", "cruise:nacelle_drag")])
+        self.add_subsystem("cruise_installed", InstalledPerformanceComp(num_nodes=nn),
+                           promotes_inputs=[(k, f"cruise:{k}") for k in ("nacelle_drag", "W2", "Fn_specific",
+                                                                           "fuel_flow", "thrust_required")],
+                           promotes_outputs=[(k, f"cruise:{k}") for k in ("Fn_required", "installed_thrust",
+                                                                            "installed_TSFC")])
+        self.add_subsystem("mission", MissionFuelComp(num_nodes=nn, num_engines=n_eng),
+                           promotes_inputs=["*", ("installed_TSFC", "cruise:installed_TSFC"),
+                                            ("cruise_speed", "cruise:V0")],
+                           promotes_outputs=["*"])
+        self.add_subsystem("cruise_thrust", CruiseThrustComp(num_nodes=nn, num_engines=n_eng),
+                           promotes_inputs=["*"],
+                           promotes_outputs=[("cruise_thrust_required", "cruise:thrust_required"),
+                                             ("mid_cruise_mass", "cruise:mid_cruise_mass")])
+
+        for jet_in, cycle_out in JET_INPUTS.items():
+            self.connect(f"{CRUISE}.{cycle_out}", f"cruise_drag.{jet_in}")
+
+        for frac, target in (("vane", "hpt_vane_cooling_frac"), ("rotor", "hpt_rotor_cooling_frac")):
+            for t in (target, f"{TAKEOFF}.{target}", f"{CRUISE}.{target}"):
+                self.connect(f"cooling_sizing.cooling_frac_{frac}", t)
+
+        for name, (value, units) in INPUT_DEFAULTS.items():
+            self.set_input_defaults(name, value * ones, units=units)
+        for point, inputs in POINT_DEFAULTS.items():
+            for name, (value, units) in inputs.items():
+                self.set_input_defaults(f"{point}:{name}", value * ones, units=units)
+        self.set_input_defaults("Mach0", 0.78 * ones)
+
+        set_coupled_solvers(self, "newton", nn, maxiter=OUTER_MAXITER)
+        newton = self.nonlinear_solver
+        newton.options["atol"] = OUTER_ATOL * np.sqrt(nn)
+        newton.options["rtol"] = OUTER_RTOL
+        newton.options["max_sub_solves"] = OUTER_SUB_SOLVES
+
+    def guess_nonlinear(self, inputs, outputs, residuals):
+        """Start the cruise thrust from ``CRUISE_THRUST_GUESS`` x the design thrust unless the last solve converged.
+
+        The cruise point is matched before its thrust is known (the mission that sets it comes after it in the
+        first Gauss-Seidel pass); a start near the answer keeps that first match inside the engine's operating
+        range. After a converged solve the previous solution is the start. Nothing is done under complex step.
+        """
+        if self.under_complex_step or last_solve_succeeded(self):
+            return
+        outputs["cruise:Fn_required"] = CRUISE_THRUST_GUESS * np.real(inputs["thrust_required"])
