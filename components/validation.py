@@ -17,6 +17,8 @@ Two kinds of check (issue "Runs you can trust"):
 
 import contextlib
 
+import math
+
 import numpy as np
 import openmdao.api as om
 
@@ -43,10 +45,17 @@ ROUND_OFF_RTOL = 1e-12
 def _range_message(name, value, lower, upper, units, lower_inclusive, upper_inclusive, where):
     """Return (message naming the first offending element, or None when all are valid; any NaN)."""
     v = np.real(np.asarray(value))
-    flat = np.atleast_1d(v).ravel()
-    bad_nan = ~np.isfinite(flat)
     lo_slack = ROUND_OFF_RTOL * max(1.0, abs(lower)) if np.isfinite(lower) else 0.0
     hi_slack = ROUND_OFF_RTOL * max(1.0, abs(upper)) if np.isfinite(upper) else 0.0
+    # fast path (called tens of thousands of times per solve): the extremes decide; NaN or inf fails it
+    if v.size:
+        lo_v, hi_v = (v.item(), v.item()) if v.size == 1 else (float(v.min()), float(v.max()))
+        if (math.isfinite(lo_v) and math.isfinite(hi_v)
+                and (lo_v >= lower - lo_slack if lower_inclusive else lo_v > lower)
+                and (hi_v <= upper + hi_slack if upper_inclusive else hi_v < upper)):
+            return None, False
+    flat = np.atleast_1d(v).ravel()
+    bad_nan = ~np.isfinite(flat)
     lo_bad = flat < lower - lo_slack if lower_inclusive else flat <= lower
     hi_bad = flat > upper + hi_slack if upper_inclusive else flat >= upper
     bad = bad_nan | lo_bad | hi_bad
