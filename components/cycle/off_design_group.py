@@ -3,7 +3,7 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.components.coupled_solver import set_coupled_solvers
+from bypassopt.components.coupled_solver import CheckedNewtonSolver
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 from .cycle_group import TurbofanCycleGroup
@@ -39,6 +39,89 @@ GUESS_GAMMA = 1.4
 GUESS_EFF_POLY = 0.9
 GUESS_T4_OVER_T41 = 1.03
 GUESS_SWEEPS = 4
+
+
+class MatchLineSearch(om.ArmijoGoldsteinLS):
+    """Backtracking line search judged on the match balances of a consistent cycle (``OffDesignGroup``).
+
+    Every trial point (the full Newton step first, then halved) moves all outputs by the step, runs one
+    Gauss-Seidel pass in flow order (every element recomputed from the moved states) and evaluates the
+    residuals; the sufficient-decrease test (Armijo) reads the norm of the match balances only. The
+    balances are normalised by their design values (``om.BalanceComp``), whereas the group's residual
+    vector also holds the explicit residual of the HP spool power demand (J/kg), which reads ``W2`` from
+    the previous pass (the HP offtake per unit flow closes a loop through ``W2``): judged on that norm, a
+    Newton step that cuts the balances tenfold was rejected for the half-closed loop's residual and the
+    solve crept to its iteration limit (measured). The loop closes as the states converge; the solver's
+    own convergence test still reads every residual. An element's ``AnalysisError`` at a trial point (a
+    nozzle pressure ratio below 1 on the way) backs the step off like an insufficient decrease.
+    ``MatchNewtonSolver`` reuses the last trial's residuals instead of evaluating them again.
+    """
+
+    def _line_search_objective(self):
+        """Norm of the match balances (the ``match`` subsystem's residuals)."""
+        return self._system().match._residuals.get_norm()
+
+    def _trial(self):
+        """Recompute the cycle from the moved states (one Gauss-Seidel pass) and evaluate the residuals."""
+        self._gs_iter()
+        self._run_apply()
+
+    def _iter_initialize(self):
+        """Take the full step and judge it; the objective at the start is the current residuals' (no evaluation).
+
+        Returns
+        -------
+        float
+            Objective at the full step (NaN when an element raised ``AnalysisError`` there).
+        """
+        system = self._system()
+        self.alpha = alpha = self.options["alpha"]
+        phi0 = self._line_search_objective()
+        self._phi0 = phi0 if phi0 != 0.0 else 1.0
+        self._dir_derivative = -self._phi0
+        system._outputs.add_scal_vec(alpha, system._doutputs)
+        self._enforce_bounds(step=system._doutputs, alpha=alpha)
+        self._analysis_error_raised = False
+        return self._judged_trial()
+
+    def _single_iteration(self):
+        """Judge the backtracked point."""
+        self._analysis_error_raised = False
+        self._judged_trial()
+
+    def _judged_trial(self):
+        newton = self._system().nonlinear_solver
+        newton._residuals_current = False
+        cache = self._solver_info.save_cache()
+        try:
+            self._trial()
+        except om.AnalysisError:
+            self._solver_info.restore_cache(cache)
+            if not self.options["retry_on_analysis_error"]:
+                raise
+            self._analysis_error_raised = True
+            return np.nan
+        newton._residuals_current = True
+        return self._line_search_objective()
+
+
+class MatchNewtonSolver(CheckedNewtonSolver):
+    """Newton solver of ``OffDesignGroup``: ``CheckedNewtonSolver`` that reuses the line search's residuals.
+
+    After each iteration the residuals at the accepted point are those the line search's last trial
+    evaluated (``MatchLineSearch``), so the evaluation Newton makes there is skipped; everything else is
+    ``om.NewtonSolver``'s (with ``CheckedNewtonSolver``'s validity checks on the converged state).
+    """
+
+    _residuals_current = False
+
+    def _run_apply(self):
+        """Evaluate the residuals unless the line search's last trial already did at this point."""
+        if self._residuals_current and not self._system().under_complex_step:
+            self._residuals_current = False
+            return
+        self._residuals_current = False
+        super()._run_apply()
 
 
 class OffDesignGroup(om.Group):
@@ -156,19 +239,16 @@ class OffDesignGroup(om.Group):
         if setting == "Tt4":
             self.set_input_defaults("Tt4", 1650.0 * ones, units="K")
 
-        set_coupled_solvers(self, "newton", nn, maxiter=NEWTON_MAXITER)
-        newton = self.nonlinear_solver
-        newton.options["atol"] = NEWTON_ATOL * np.sqrt(nn)
-        newton.options["rtol"] = NEWTON_RTOL
-        # A Gauss-Seidel pass in flow order at every iteration keeps the explicit elements consistent with the
-        # states, so the residual norm is that of the balances and the W2 <-> offtake loop.
-        newton.options["max_sub_solves"] = NEWTON_MAXITER
-        # Backtracking line search that also backs off from an element's AnalysisError (a nozzle pressure ratio
-        # below 1 on the way). Its first trial is judged without the Gauss-Seidel pass (explicit outputs not yet
-        # recomputed), so it is taken at twice the Newton step, where it is normally rejected; the full step is then
-        # the first trial judged on the consistent residual.
-        newton.linesearch = om.ArmijoGoldsteinLS(bound_enforcement="scalar", retry_on_analysis_error=True,
-                                                 alpha=2.0, rho=0.5, c=0.1, maxiter=LINESEARCH_MAXITER, iprint=-1)
+        # Newton on every output (om.DirectSolver: the explicit elements are eliminated exactly, so the states'
+        # step is that of the balances alone); one Gauss-Seidel pass from the start values (max_sub_solves=0: no
+        # further pass by Newton itself, the line search's trials make the elements consistent with the states).
+        self.nonlinear_solver = MatchNewtonSolver(solve_subsystems=True, max_sub_solves=0, maxiter=NEWTON_MAXITER,
+                                                  atol=NEWTON_ATOL * np.sqrt(nn), rtol=NEWTON_RTOL, iprint=-1,
+                                                  err_on_non_converge=True)
+        self.nonlinear_solver.linesearch = MatchLineSearch(bound_enforcement="scalar", retry_on_analysis_error=True,
+                                                           alpha=1.0, rho=0.5, c=0.1, maxiter=LINESEARCH_MAXITER,
+                                                           iprint=-1)
+        self.linear_solver = om.DirectSolver()
 
     def guess_nonlinear(self, inputs, outputs, residuals):
         r"""Start the Newton solve from the design point moved along the map-free trends (skipped under cs).
