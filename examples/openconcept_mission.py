@@ -1,0 +1,369 @@
+"""Invented 170-seat twin flying climb, cruise and descent in OpenConcept, with bypassopt's engine at every node.
+
+The aircraft is the invented "demo twin 170" of the project's demo scenario (shared/scenario.md): no real aircraft
+or engine. OpenConcept's ``BasicMission`` flies it; the aircraft model of every phase carries bypassopt's
+``TurbofanPropulsionSystem`` (the engine sized once by ``TurbofanSizingGroup`` at top of climb, flown map-free at
+each node), an OpenConcept drag polar, a fuel integrator and the weight. Mission fuel is minimised over BPR, FPR and
+OPR (Tt4 held at the scenario's 1650 K) with SciPy's SLSQP, subject to the nacelle ground clearance and the hot-day
+take-off T41 and T3 limits. The optimum's active limits are printed, and the mission fuel is compared with the
+plugin's own Breguet estimate (``MissionFuelComp``, as ``bypassopt evaluate`` computes it).
+
+Run (about two minutes on a 2-core machine; needs the openconcept extra: OpenConcept 1.2.6, numpy < 2)::
+
+    python examples/openconcept_mission.py            # analysis, optimisation, comparison
+    python examples/openconcept_mission.py --analysis # the starting design only
+
+**Terminal altitude.** ``BasicMission`` climbs from and descends to one altitude, ``takeoff|h``. The map-free
+off-design match has no operating point at the low power a descent needs below about 7 km on this engine (its
+turbine vanes are held choked; ``OffDesignGroup``), so the mission is flown between ``TERMINAL_ALTITUDE`` (8 km) and
+the cruise altitude, over the whole design range; take-off, the climb to 8 km, the descent below it and the
+landing are not flown. The comparison below accounts for that.
+"""
+
+import argparse
+import time
+
+import numpy as np
+import openmdao.api as om
+from openconcept.aerodynamics import PolarDrag
+from openconcept.mission import BasicMission
+from openconcept.utilities import AddSubtractComp as PhaseAddSubtractComp
+from openconcept.utilities import Integrator
+
+from bypassopt.adapters.openconcept import TurbofanPropulsionSystem, TurbofanSizingGroup
+from bypassopt.components.coupled_solver import CheckedNewtonSolver, last_solve_succeeded
+from bypassopt.components.mission.mission_fuel_comp import G0, MissionFuelComp
+from bypassopt.problems.drivers import BackOffSLSQPDriver
+from bypassopt.problems.kkt import ACTIVE_TOL
+
+#: Flight nodes per phase (OpenConcept's Simpson integration needs an odd number).
+NUM_NODES = 5
+#: Engines on the aircraft.
+NUM_ENGINES = 2
+#: Lowest altitude flown, m: where the climb starts and the descent ends (see the module docstring).
+TERMINAL_ALTITUDE = 8000.0
+#: Cruise altitude, m (10 668 m = 35 000 ft) and design range, m (scenario.md).
+CRUISE_ALTITUDE = 10668.0
+DESIGN_RANGE = 5.0e6
+
+#: The demo twin 170 (scenario.md, invented): masses in kg.
+EMPTY_MASS_NO_ENGINES = 38500.0
+PAYLOAD = 16150.0
+#: Reserve fuel as a fraction of the zero-fuel mass: the plugin's MissionFuelComp default (common practice).
+RESERVE_FRACTION = 0.05
+#: Airframe drag polar, nacelles excluded (their drag is the engines' thrust debit). Invented: the wing area is the
+#: embedding example's calibration (76 t at 600 kg/m**2, problems/aircraft_embedding.py); aspect ratio, Oswald
+#: factor and zero-lift drag are chosen so that L/D is about the scenario's 17.5 at the cruise lift coefficient
+#: (0.019 + CL^2/(pi 10 0.8) at CL 0.5: L/D 17.2).
+WING_AREA = 127.0
+ASPECT_RATIO = 10.0
+OSWALD = 0.80
+CD0 = 0.019
+#: Airframe lift-to-drag ratio of the scenario for the Breguet estimate.
+LIFT_TO_DRAG = 17.5
+
+#: Flight schedule: equivalent airspeeds (kn) and vertical speeds (ft/min), first and last node of each phase.
+#: 250 kn EAS at 10 668 m is Mach 0.78 (scenario.md's cruise). The descent is shallow so that the engine stays
+#: above the lowest power the map-free match can reach.
+SCHEDULE = {"climb": {"Ueas": (290.0, 250.0), "vs": (1500.0, 500.0)},
+            "cruise": {"Ueas": (250.0, 250.0), "vs": (0.0, 0.0)},
+            "descent": {"Ueas": (250.0, 290.0), "vs": (-300.0, -300.0)}}
+#: Start values of the mission's own unknowns (a converged design's, rounded): the first Newton iteration needs
+#: engine throttles inside the match's range, and OpenConcept's default Mach number (1.0) is outside it.
+START = {"climb": {"throttle": 0.65, "duration": 530.0}, "cruise": {"throttle": 0.45, "duration": 2.0e4},
+         "descent": {"throttle": 0.36, "duration": 1750.0}}
+START_MACH = 0.75
+
+#: Design variables (scenario.md's bounds; start at its cycle starting point) and limits (scenario.md).
+DESIGN_VARIABLES = {"BPR": (10.0, 6.0, 16.0, 10.0), "FPR": (1.5, 1.3, 1.9, 1.0), "OPR": (40.0, 25.0, 60.0, 10.0)}
+LIMITS = {"ac|propulsion|clearance_margin": ("lower", 0.0, 0.1, "m", "nacelle ground clearance margin"),
+          "ac|propulsion|takeoff|Tt41": ("upper", 1900.0, 100.0, "K", "take-off T41 (hot day)"),
+          "ac|propulsion|takeoff|Tt3": ("upper", 960.0, 100.0, "K", "take-off T3 (hot day)")}
+MISSION_FUEL = "mission.descent.fuel_used_final"
+FUEL_REF = 1.0e4
+
+#: Tolerances of the mission's Newton solver. The residual norm cannot fall much below 1e-8 (measured): every
+#: engine node re-converges its own match from the design point at each iteration, to its own tolerance; 1e-9
+#: stalled. 1e-7 keeps a margin above that floor.
+NEWTON_ATOL = 1e-7
+NEWTON_RTOL = 1e-14
+NEWTON_MAXITER = 20
+
+
+class DemoTwinAircraft(om.Group):
+    """Aircraft model of one mission phase: bypassopt's propulsion, a drag polar, fuel burnt and weight."""
+
+    def initialize(self):
+        """Declare OpenConcept's options."""
+        self.options.declare("num_nodes", default=1, desc="flight nodes of the phase")
+        self.options.declare("flight_phase", default=None, desc="phase name (unused)")
+
+    def setup(self):
+        """Add the propulsion system, the drag polar, the fuel integrator and the weight."""
+        nn = self.options["num_nodes"]
+        self.add_subsystem("propulsion", TurbofanPropulsionSystem(num_nodes=nn, num_engines=NUM_ENGINES),
+                           promotes=["*"])
+        self.add_subsystem("drag", PolarDrag(num_nodes=nn),
+                           promotes_inputs=["fltcond|CL", "fltcond|q", "ac|geom|wing|S_ref", "ac|geom|wing|AR",
+                                            ("CD0", "ac|aero|polar|CD0"), ("e", "ac|aero|polar|e")],
+                           promotes_outputs=["drag"])
+        fuel = self.add_subsystem("fuel", Integrator(num_nodes=nn, diff_units="s", time_setup="duration",
+                                                     method="simpson"),
+                                  promotes_inputs=["fuel_flow"], promotes_outputs=["fuel_used", "fuel_used_final"])
+        fuel.add_integrand("fuel_used", rate_name="fuel_flow", units="kg")
+        self.add_subsystem("weight", PhaseAddSubtractComp(output_name="weight", input_names=["ac|weights|TOW",
+                                                                                             "fuel_used"],
+                                                          units="kg", vec_size=[1, nn], scaling_factors=[1, -1]),
+                           promotes=["*"])
+
+
+class MissionAnalysis(om.Group):
+    """The mission and the take-off mass closure, solved by one Newton solver; restarts from its last solution.
+
+    After a failed solve (an optimizer's trial design whose descent the engine cannot fly) the next solve starts
+    from the last converged state, not from what the failure left.
+    """
+
+    def guess_nonlinear(self, inputs, outputs, residuals):
+        """Keep the last converged state; go back to it after a failed solve (nothing under complex step)."""
+        if self.under_complex_step:
+            return
+        if last_solve_succeeded(self):
+            self._converged = outputs.asarray().copy()
+        elif getattr(self, "_converged", None) is not None:
+            outputs.set_val(self._converged)
+
+
+class DemoTwinMission(om.Group):
+    """Aircraft data, the engine sizing (once) and the mission whose take-off mass closes on its fuel."""
+
+    def initialize(self):
+        """Declare options."""
+        self.options.declare("num_nodes", types=int, default=NUM_NODES, desc="flight nodes per phase")
+
+    def setup(self):
+        """Assemble the aircraft data, the sizing and the mission."""
+        data = self.add_subsystem("aircraft_data", om.IndepVarComp(), promotes=["*"])
+        data.add_output("ac|geom|wing|S_ref", WING_AREA, units="m**2")
+        data.add_output("ac|geom|wing|AR", ASPECT_RATIO)
+        data.add_output("ac|aero|polar|CD0", CD0)
+        data.add_output("ac|aero|polar|e", OSWALD)
+        data.add_output("ac|weights|empty_no_engines", EMPTY_MASS_NO_ENGINES, units="kg")
+        data.add_output("ac|weights|payload", PAYLOAD, units="kg")
+        for name, (start, *_) in DESIGN_VARIABLES.items():
+            data.add_output(f"ac|propulsion|engine|{name}", start)
+
+        self.add_subsystem("sizing", TurbofanSizingGroup(num_engines=NUM_ENGINES), promotes=["*"])
+
+        analysis = self.add_subsystem("analysis", MissionAnalysis(), promotes=["*"])
+        analysis.add_subsystem("mission", BasicMission(aircraft_model=DemoTwinAircraft,
+                                                       num_nodes=self.options["num_nodes"]),
+                               promotes_inputs=["ac|*"])
+        zfm = om.AddSubtractComp()
+        zfm.add_equation("zero_fuel_mass", ["ac|weights|empty_no_engines", "ac|propulsion|mass",
+                                            "ac|weights|payload"], units="kg")
+        analysis.add_subsystem("zero_fuel_mass", zfm, promotes=["*"])
+        room = om.AddSubtractComp()
+        room.add_equation("fuel_room", ["ac|weights|TOW", "zero_fuel_mass"],
+                          scaling_factors=[1.0, -(1.0 + RESERVE_FRACTION)], units="kg",
+                          desc="take-off mass less the zero-fuel mass and the reserve: the fuel there is to burn")
+        analysis.add_subsystem("fuel_room", room, promotes=["*"])
+        closure = om.BalanceComp("ac|weights|TOW", val=72000.0, units="kg", eq_units="kg", lhs_name="mission_fuel",
+                                 rhs_name="fuel_room", ref=1.0e4,
+                                 desc="take-off mass that carries exactly the mission fuel plus the reserve")
+        analysis.add_subsystem("takeoff_mass", closure, promotes=["*"])
+        analysis.connect(MISSION_FUEL, "mission_fuel")
+
+        newton = analysis.nonlinear_solver = CheckedNewtonSolver(solve_subsystems=True, maxiter=NEWTON_MAXITER,
+                                                                 atol=NEWTON_ATOL, rtol=NEWTON_RTOL, iprint=-1,
+                                                                 err_on_non_converge=True)
+        # No residual-judging line search: its first trial would see the engines' stale inner states.
+        newton.linesearch = om.BoundsEnforceLS(bound_enforcement="scalar", print_bound_enforce=False)
+        analysis.linear_solver = om.DirectSolver(assemble_jac=True)
+
+
+def build_problem(num_nodes=NUM_NODES, optimize=False, **setup_kwargs):
+    """Set up the demo-twin mission problem (with SLSQP, design variables and limits when ``optimize``)."""
+    prob = om.Problem(DemoTwinMission(num_nodes=num_nodes), reports=False)
+    if optimize:
+        # SciPy's SLSQP through the plugin's driver that backs off from designs the model cannot evaluate
+        prob.driver = BackOffSLSQPDriver(maxiter=50, tol=1e-8)
+        for name, (_, lower, upper, ref) in DESIGN_VARIABLES.items():
+            prob.model.add_design_var(f"ac|propulsion|engine|{name}", lower=lower, upper=upper, ref=ref)
+        prob.model.add_objective(MISSION_FUEL, ref=FUEL_REF)
+        for name, (kind, limit, ref, _, _) in LIMITS.items():
+            bound = {"lower": limit} if kind == "lower" else {"upper": limit}
+            prob.model.add_constraint(name, ref=ref, **bound)
+    prob.setup(**setup_kwargs)
+    set_mission(prob, num_nodes)
+    return prob
+
+
+def set_mission(prob, num_nodes=NUM_NODES):
+    """Set the mission (altitudes, range, speeds, vertical speeds) and the start values of its unknowns."""
+    prob.set_val("mission.takeoff|h", TERMINAL_ALTITUDE, units="m")
+    prob.set_val("mission.cruise|h0", CRUISE_ALTITUDE, units="m")
+    prob.set_val("mission.mission_range", DESIGN_RANGE, units="m")
+    for phase, schedule in SCHEDULE.items():
+        prob.set_val(f"mission.{phase}.fltcond|Ueas", np.linspace(*schedule["Ueas"], num_nodes), units="kn")
+        prob.set_val(f"mission.{phase}.fltcond|vs", np.linspace(*schedule["vs"], num_nodes), units="ft/min")
+        prob.set_val(f"mission.{phase}.throttle", START[phase]["throttle"] * np.ones(num_nodes))
+        prob.set_val(f"mission.{phase}.duration", START[phase]["duration"], units="s")
+        prob.set_val(f"mission.{phase}.fltcond|M", START_MACH * np.ones(num_nodes))
+
+
+def limit_margins(prob):
+    """Each limit's margin (>= 0 feasible) in its scaling reference: {name: (value, limit, margin / ref)}."""
+    out = {}
+    for name, (kind, limit, ref, units, _) in LIMITS.items():
+        value = float(prob.get_val(name, units=units)[0])
+        out[name] = (value, limit, (value - limit if kind == "lower" else limit - value) / ref)
+    return out
+
+
+def kkt_check(prob, active_tol=ACTIVE_TOL):
+    """Active set, multipliers and Lagrangian gradient at the current point (Nocedal & Wright, theorem 12.1).
+
+    Every limit and bound is written c(x) <= 0, each limit divided by its scaling reference and each design variable
+    measured in its bound range; the multipliers of the active ones solve grad f + sum lambda_i grad c_i = 0 by least
+    squares (f divided by its reference), and what is left (the projected gradient) measures optimality. Returns
+    (active: {name: multiplier}, norm of the projected gradient / norm of grad f).
+    """
+    dv_names = [f"ac|propulsion|engine|{k}" for k in DESIGN_VARIABLES]
+    spans = np.array([upper - lower for _, lower, upper, _ in DESIGN_VARIABLES.values()])
+    totals = prob.compute_totals(of=[MISSION_FUEL] + list(LIMITS), wrt=dv_names, return_format="dict")
+    grad = lambda of, ref: np.array([float(np.squeeze(totals[of][w])) for w in dv_names]) * spans / ref  # noqa
+    grad_f = grad(MISSION_FUEL, FUEL_REF)
+    columns, names = [], []
+    for name, (_, _, margin) in limit_margins(prob).items():
+        if abs(margin) <= active_tol:
+            kind, _, ref, _, _ = LIMITS[name]
+            columns.append((-1.0 if kind == "lower" else 1.0) * grad(name, ref))  # lower limit: c = limit - g
+            names.append(name)
+    for i, (dv, (_, lower, upper, _)) in enumerate(DESIGN_VARIABLES.items()):
+        x = float(prob.get_val(dv_names[i])[0])
+        for bound, value, sign in (("lower", lower, -1.0), ("upper", upper, 1.0)):
+            if abs(x - value) <= active_tol * (upper - lower):
+                column = np.zeros(len(dv_names))
+                column[i] = sign
+                columns.append(column)
+                names.append(f"{dv} {bound} bound")
+    if columns:
+        a = np.array(columns).T
+        lam = np.linalg.lstsq(a, -grad_f, rcond=None)[0]
+        residual = grad_f + a @ lam
+    else:
+        lam, residual = np.zeros(0), grad_f
+    return dict(zip(names, lam)), float(np.linalg.norm(residual) / np.linalg.norm(grad_f))
+
+
+def breguet_estimate(prob):
+    """Return the plugin's own Breguet mission estimate for the same engine and aircraft (MissionFuelComp).
+
+    As ``InstalledEngineGroup`` computes it: cruise at the top-of-climb installed TSFC and true airspeed, the
+    scenario's L/D 17.5, the whole design range in cruise, Raymer-style segment fractions for taxi, take-off,
+    climb, descent and landing, the same reserve. Returns MissionFuelComp's outputs (kg).
+    """
+    check = om.Problem(reports=False)
+    check.model.add_subsystem("breguet", MissionFuelComp(num_engines=NUM_ENGINES), promotes=["*"])
+    check.setup()
+    check.set_val("installed_TSFC", prob.get_val("ac|propulsion|design|installed_TSFC", units="kg/(N*s)"),
+                  units="kg/(N*s)")
+    check.set_val("cruise_speed", prob.get_val("multipoint.design.V0", units="m/s"), units="m/s")
+    check.set_val("lift_to_drag", LIFT_TO_DRAG)
+    check.set_val("design_range", DESIGN_RANGE, units="m")
+    check.set_val("empty_mass_no_engines", EMPTY_MASS_NO_ENGINES, units="kg")
+    check.set_val("payload", PAYLOAD, units="kg")
+    check.set_val("powerplant_mass", prob.get_val("ac|propulsion|engine|powerplant_mass", units="kg"), units="kg")
+    check.set_val("reserve_fraction", RESERVE_FRACTION)
+    check.run_model()
+    return {k: float(check.get_val(k, units="kg")[0]) for k in ("mission_fuel", "cruise_fuel", "takeoff_mass",
+                                                                 "zero_fuel_mass", "reserve_fuel")}
+
+
+def flown_summary(prob):
+    """Fuel, distance, mean installed TSFC and mean L/D of each flown phase (from the mission's nodes)."""
+    out = {}
+    start = 0.0
+    for phase in ("climb", "cruise", "descent"):
+        p = f"mission.{phase}"
+        fuel_end = float(prob.get_val(f"{p}.fuel_used_final", units="kg")[0])
+        thrust = prob.get_val(f"{p}.thrust", units="N")
+        flow = prob.get_val(f"{p}.fuel_flow", units="kg/s")
+        weight = prob.get_val(f"{p}.weight", units="kg") * G0
+        drag = prob.get_val(f"{p}.drag", units="N")
+        rng = prob.get_val(f"{p}.range", units="m")
+        out[phase] = {"fuel": fuel_end - start, "distance": float(rng[-1] - rng[0]),
+                      "TSFC": float(np.mean(flow / thrust)), "L/D": float(np.mean(weight / drag)),
+                      "mass_start": float(weight[0] / G0), "mass_end": float(weight[-1] / G0),
+                      "speed": float(np.mean(prob.get_val(f"{p}.fltcond|Utrue", units="m/s")))}
+        start = fuel_end
+    return out
+
+
+def breguet_cruise_fuel(mass_end, distance, tsfc, speed, lift_to_drag):
+    """Jet Breguet cruise fuel ending at ``mass_end`` (kg): m_end (exp(R g c / (V L/D)) - 1)."""
+    return mass_end * (np.exp(distance * G0 * tsfc / (speed * lift_to_drag)) - 1.0)
+
+
+def report(prob, timings=None):
+    """Print the design, the flown mission, the limits and the comparison with the Breguet estimate."""
+    print("\nDesign: " + ", ".join(f"{k} {float(prob.get_val(f'ac|propulsion|engine|{k}')[0]):.4g}"
+                                   for k in DESIGN_VARIABLES) + ", Tt4 1650 K (held)")
+    print(f"  fan {float(prob.get_val('ac|propulsion|engine|fan_tip_diameter')[0]):.3f} m, powerplant "
+          f"{float(prob.get_val('ac|propulsion|mass')[0]):.0f} kg (both engines), take-off mass "
+          f"{float(prob.get_val('ac|weights|TOW')[0]):.0f} kg")
+    print("Limits (margin / scaling reference; active within 1e-4):")
+    for name, (value, limit, margin) in limit_margins(prob).items():
+        flag = "ACTIVE" if abs(margin) <= ACTIVE_TOL else ("violated" if margin < 0 else "inactive")
+        print(f"  {LIMITS[name][4]:36s} {value:10.4f} vs {limit:8.2f} {LIMITS[name][3]:2s} {flag}")
+    flown = flown_summary(prob)
+    total = sum(p["fuel"] for p in flown.values())
+    print(f"Flown mission ({TERMINAL_ALTITUDE / 1e3:.0f} km -> {CRUISE_ALTITUDE:.0f} m -> "
+          f"{TERMINAL_ALTITUDE / 1e3:.0f} km, {DESIGN_RANGE / 1e3:.0f} km): {total:.0f} kg")
+    for phase, p in flown.items():
+        print(f"  {phase:8s} {p['fuel']:8.0f} kg over {p['distance'] / 1e3:7.0f} km, installed TSFC "
+              f"{p['TSFC'] * 1e6:.2f} mg/(N s), L/D {p['L/D']:.2f}")
+    b = breguet_estimate(prob)
+    print(f"Plugin's Breguet estimate (MissionFuelComp): mission fuel {b['mission_fuel']:.0f} kg, of which cruise "
+          f"{b['cruise_fuel']:.0f} kg (top-of-climb installed TSFC "
+          f"{float(prob.get_val('ac|propulsion|design|installed_TSFC')[0]) * 1e6:.2f} mg/(N s), L/D {LIFT_TO_DRAG})")
+    c = flown["cruise"]
+    same = breguet_cruise_fuel(c["mass_end"], c["distance"], c["TSFC"], c["speed"], c["L/D"])
+    print(f"  Breguet over the flown cruise with its own mean TSFC and L/D: {same:.0f} kg (flown: {c['fuel']:.0f} kg)")
+    if timings:
+        print("Times: " + ", ".join(f"{k} {v:.1f} s" for k, v in timings.items()))
+    return {"flown": flown, "breguet": b, "breguet_flown_cruise": same, "mission_fuel": total}
+
+
+def main():
+    """Run the starting design, optimise, print the optimum, its active limits and the fuel comparison."""
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--analysis", action="store_true", help="evaluate the starting design only")
+    args = parser.parse_args()
+    t0 = time.perf_counter()
+    prob = build_problem(optimize=not args.analysis)
+    t1 = time.perf_counter()
+    prob.run_model()
+    t2 = time.perf_counter()
+    timings = {"setup": t1 - t0, "first run": t2 - t1}
+    if not args.analysis:
+        prob.compute_totals()
+        t3 = time.perf_counter()
+        timings["totals"] = t3 - t2
+        print("Starting design (scenario.md's cycle starting point):")
+        report(prob)
+        prob.run_driver()
+        timings["optimisation"] = time.perf_counter() - t3
+        result = prob.driver.optimizer_result
+        print(f"\nSLSQP: success {result.success} ({result.message}), {result.nit} iterations, "
+              f"{prob.driver.model_evaluations} model runs ({prob.driver.failed_evaluations} failed), "
+              f"{prob.driver.derivative_evaluations} gradients")
+        active, gradient = kkt_check(prob)
+        print("Active limits and multipliers (scaled): " + ", ".join(f"{k} {v:.3g}" for k, v in active.items())
+              + f"; projected gradient {gradient:.1e} of |grad f|")
+    report(prob, timings)
+
+
+if __name__ == "__main__":
+    main()
