@@ -1,5 +1,8 @@
 """Off-design match of a designed turbofan (map-free): design reproduction, closed forms, trends, derivatives."""
 
+import sys
+from pathlib import Path
+
 import numpy as np
 import openmdao.api as om
 import pytest
@@ -9,6 +12,12 @@ from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
 from bypassopt.components.cycle.flow_capacity_comp import FlowCapacityComp
 from bypassopt.components.cycle.off_design_group import GEOMETRY, OffDesignGroup
 from bypassopt.components.gas.thermo import CaloricallyPerfectGas, ThermallyPerfectGas
+
+ROOT = Path(__file__).resolve().parents[3]
+if str(ROOT) not in sys.path:  # benchmarks/ is not installed: import it from the checkout
+    # appended, not prepended: the checkout's bypassopt/ folder must not shadow the installed package
+    sys.path.append(str(ROOT))
+from benchmarks.benchmark_off_design import envelope_convergence  # noqa: E402
 
 DESIGN_RTOL = 1e-8
 IDEAL_RTOL = 1e-9
@@ -243,43 +252,93 @@ def test_totals_match_complex_step(design, setting, power):
     assert_check_totals(data, atol=TOTALS_TOL, rtol=TOTALS_TOL)
 
 
-ENVELOPE_POINTS = 40
-ENVELOPE_SEED = 20250
-T4_MAX = 1800.0  # K, the "max Tt4" of the sample (take-off temperature of the demo engine, common practice)
-# Fraction measured with this seed and these ranges; see the test's docstring.
-CONVERGED_FLOOR = 0.65  # measured: 27/40 (68 %)
+# Envelope sample, maximum rating and batched solve: benchmarks/benchmark_off_design.py (which reports the same figure).
+ENVELOPE_FLOOR = 0.99  # issue 9's target; measured 500/500 with seed 20250 (see the test's docstring)
 
 
 def test_convergence_over_envelope(design, capsys):
-    """From the design-point start (moved by guess_nonlinear's closed forms), a seeded random envelope sample.
+    """From the design-point start, 500 seeded random points of the envelope at 40-100 % of the maximum thrust.
 
-    0-13 km, M 0-0.9, ISA-20..+25 (raised where the static temperature would fall below the gas model's 200 K),
-    Tt4 60-100 % of 1800 K (the real-gas burner is valid from 1000 K, so 40 % is outside the model). Every failure
-    must be an om.AnalysisError with its cause (an element's range check or the Newton solver), never NaN: any
-    other exception fails the test. Many failures are points with no operating point in this map-free model (a
-    low Tt4 at high flight speed: the fixed-efficiency turbines cannot drive the compressors); the floor is the
-    measured fraction rounded down.
+    Sample (``envelope_sample``, seed 20250): altitude 0-13 km, M 0-0.9, ISA-20..+25, thrust fraction 0.4-1.0.
+    Maximum rating at each flight condition: Tt4_max = min(1800 K, (Tt4/Tt2)_design * Tt2), the take-off
+    temperature limit or the design's corrected core temperature ratio (a corrected-speed proxy, field-reference
+    12.2 item 8; the textbook throttle-ratio schedule, Mattingly, Heiser & Pratt, from memory); Fn_max is the match
+    there ('Tt4' setting), and the part-power point the match at fraction * Fn_max ('thrust' setting, as the
+    multipoint group uses). A point converges when both do. The ISA offset is raised where the gas model's 200 K
+    floor would be crossed: Ts0 >= 201 K, and Ts0 (1 + 0.2 M0^2) >= 229 K because the bypass nozzle's sonic static
+    temperature (0.833 Tt17, evaluated choked or not) must stay at or above 200 K down to 40 % power, where
+    Tt13/Tt2 falls to 1.05 (86 of the 500 points raised, the cold high-and-slow corner; without the raise 42 points
+    fail, every one on that range check). Every failure must be an om.AnalysisError naming its cause (any other
+    exception fails the test); the floor is issue 9's 99 % (measured: 500/500). Each converged point must hold the
+    design geometry (NGV capacities, nozzle areas) and need a lower Tt4 at part power than at the maximum rating
+    (thrust rises with Tt4 at a fixed flight condition, field-reference 12.2 test (b)).
     """
-    rng = np.random.default_rng(ENVELOPE_SEED)
-    n = ENVELOPE_POINTS
-    alt = rng.uniform(0.0, 13000.0, n)
-    mach = rng.uniform(0.0, 0.9, n)
-    t_isa = 288.15 - 6.5e-3 * np.minimum(alt, 11000.0)
-    dt = np.maximum(rng.uniform(-20.0, 25.0, n), 201.0 - t_isa)
-    tt4 = T4_MAX * rng.uniform(0.6, 1.0, n)
-    prob = build_off_design(design, "Tt4", nn=1)
-    ok, causes = 0, []
-    for i in range(n):
-        for k, v in (("altitude", alt[i]), ("Mach0", mach[i]), ("dT_isa", dt[i]), ("Tt4", tt4[i])):
-            prob.set_val(k, v)
-        try:
-            prob.run_model()
-        except om.AnalysisError as err:
-            causes.append(str(err).split("compute(), ")[-1][:90])
-            continue
-        assert np.all(np.isfinite(prob.get_val("TSFC")))
-        np.testing.assert_allclose(prob.get_val("area8"), design.get_val("area8"), rtol=ENVELOPE_AREA_RTOL)
-        ok += 1
+    env = envelope_convergence(design, build=build_off_design)
+    sample, n = env["sample"], len(env["converged"])
+    assert n == 500
+    assert np.all((sample["altitude"] >= 0.0) & (sample["altitude"] <= 13000.0))
+    assert np.all((sample["Mach0"] >= 0.0) & (sample["Mach0"] <= 0.9))
+    assert np.all((sample["dT_drawn"] >= -20.0) & (sample["dT_drawn"] <= 25.0))
+    assert np.all(sample["dT_isa"][~sample["raised"]] == sample["dT_drawn"][~sample["raised"]])
+    for i in np.flatnonzero(env["converged"]):
+        top, part = env["max_rating"][i], env["part_power"][i]
+        for point in (top, part):
+            assert np.isfinite(point["TSFC"]) and point["TSFC"] > 0.0
+            for k in ("area8", "area18", "W4_corrected", "W45_corrected"):
+                np.testing.assert_allclose(point[k], design.get_val(k)[0], rtol=ENVELOPE_AREA_RTOL, err_msg=f"{k} {i}")
+        assert part["Tt4"] <= top["Tt4"] * (1.0 + 1e-9), i
+    failures = [r for r in env["part_power"] if not isinstance(r, dict)]
+    assert all(isinstance(r, str) and r for r in failures)
+    ok = int(np.sum(env["converged"]))
     with capsys.disabled():
-        print(f"\noff-design envelope sample: {ok}/{n} converged ({ok / n:.0%}); failures: {causes}")
-    assert ok / n >= CONVERGED_FLOOR
+        print(f"\noff-design envelope sample: {ok}/{n} converged ({ok / n:.1%}), {int(sample['raised'].sum())} ISA "
+              f"offsets raised, {env['solves']} vector solves in {env['seconds']:.1f} s; causes: {dict(env['causes'])}")
+    assert ok / n >= ENVELOPE_FLOOR
+
+
+def test_unmatched_point_raises_with_cause(design):
+    """A point without an operating point, and a solve cut short, raise om.AnalysisError naming the cause.
+
+    Tt4 = 1000 K at sea level, M 0.9: the core stream's total pressure stays below ambient (the nozzle check names
+    it; common practice: a turbofan cannot idle on a burner-exit temperature this low at high ram). Two Newton
+    iterations are not enough for an ordinary point: the message names the node, its flight condition and power,
+    and the balance left unmatched.
+    """
+    prob = build_off_design(design, "Tt4", nn=2)
+    prob.set_val("altitude", np.array([0.0, 5000.0]))
+    prob.set_val("Mach0", np.array([0.5, 0.9]))
+    prob.set_val("dT_isa", np.zeros(2))
+    prob.set_val("Tt4", np.array([1600.0, 1000.0]))
+    with pytest.raises(om.AnalysisError, match="nozzle pressure ratio .* is not above 1"):
+        prob.run_model()
+    prob.set_val("Tt4", np.array([1600.0, 1500.0]))
+    prob.model.od.nonlinear_solver.options["maxiter"] = 2
+    with pytest.raises(om.AnalysisError, match=r"No off-design match at node \d \(altitude = .* m, Mach0 = .*, "
+                                               r"dT_isa = 0 K, Tt4 = .* K\): the .* balance is left unmatched"):
+        prob.run_model()
+
+
+def test_warm_start_equals_cold_start(design):
+    """warm_start: the next solve starts from the last converged solution; same results, fewer iterations.
+
+    A sequence of thrusts 0.5 % apart at one flight condition (an optimizer's steps); after a failed solve (an
+    unreachable thrust) the next one starts from the design point again and still agrees.
+    """
+    probs = {warm: build_off_design(design, "thrust", warm_start=warm) for warm in (False, True)}
+    results, iterations = {}, {}
+    for warm, prob in probs.items():
+        prob.set_val("altitude", 9000.0)
+        prob.set_val("Mach0", 0.7)
+        values, iters = [], []
+        for fn in (20.0e3, 20.1e3, 20.2e3, 5.0e6, 20.3e3):
+            prob.set_val("Fn_required", fn)
+            try:
+                prob.run_model()
+            except om.AnalysisError:
+                assert fn == 5.0e6
+                continue
+            values.append([prob.get_val(k)[0] for k in ("TSFC", "Tt4", "W2", "FPR", "OPR", "BPR")])
+            iters.append(prob.model.od.nonlinear_solver._iter_count)
+        results[warm], iterations[warm] = np.array(values), iters
+    np.testing.assert_allclose(results[True], results[False], rtol=DESIGN_RTOL)
+    assert iterations[True][1] < iterations[False][1] and iterations[True][2] < iterations[False][2]
