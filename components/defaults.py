@@ -1,10 +1,10 @@
 """Default values of the engine and installation inputs: the one table the model and the scenario files share.
 
-``InstalledEngineGroup`` sets these as the defaults of its promoted inputs (``set_input_defaults``), and the
-scenario schema (``bypassopt.scenario``) takes them as the defaults of its ``[engine]``, ``[installation]``
-and ``limits.max_nacelle_diameter_m`` keys, so the bare group of the embedding example and
-``bypassopt evaluate`` compute the same engine. The built-in demo scenario (``demo_twin_170.toml``) lists the
-same values so that it stays a complete template; a test keeps it identical to this table.
+``InstalledEngineGroup`` sets these (``INPUT_DEFAULTS``) as the defaults of its promoted inputs
+(``set_input_defaults``), and the scenario schema (``bypassopt.scenario``) takes them as the defaults of its
+``[engine]``, ``[installation]`` and ``limits.max_nacelle_diameter_m`` keys, so the bare group of the embedding
+example and ``bypassopt evaluate`` compute the same engine. The built-in demo scenario (``demo_twin_170.toml``)
+lists the same values so that it stays a complete template; a test keeps it identical to this table.
 
 Values are common-practice figures for a modern high-bypass engine and the installation of the invented demo
 aircraft (see README); they are starting values, not data of any real engine. This module is pure data: it
@@ -65,8 +65,45 @@ INSTALLATION_DEFAULTS = {
     "max_nacelle_diameter": (2.60, "m"),
 }
 
-#: Every input default of the installed engine: ENGINE_DEFAULTS and INSTALLATION_DEFAULTS together.
-INPUT_DEFAULTS = {**ENGINE_DEFAULTS, **INSTALLATION_DEFAULTS}
+#: Cycle inputs of ENGINE_DEFAULTS that the installed engine computes from a technology level and the engine's
+#: size, speeds and loadings (``InstalledEngineGroup``'s turbomachinery models); the group's inputs are the
+#: ``<name>_ref`` entries of TURBOMACHINERY_DEFAULTS instead.
+COMPUTED_ENGINE_INPUTS = ("fan_bypass_eff_poly", "hpc_eff_poly", "hpt_eff_poly", "lpt_eff_poly", "LP_mech_eff")
+
+#: Inputs of the installed engine's turbomachinery models: promoted input name -> (value, units or None).
+#: Technology levels (``<name>_ref``): the efficiency at the reference core size (HPC, HPT), without tip shock
+#: loss (fan bypass stream), at the reference LP-turbine stage design, and without a gearbox (LP spool); the
+#: values are those of ENGINE_DEFAULTS except the fan's, which is the shock-free level (the top of the
+#: common-practice band 0.90-0.93, field-reference 3.3). Core size effect: reference HPC exit corrected flow
+#: (current narrow-body cores run about 2-3 kg/s, common practice) and stage-averaged tip clearance / blade
+#: height there (common practice 1-2 %). LP turbine: exit axial Mach number and hub-to-tip ratio, stage loading
+#: dh/U^2 (common practice 0.3-0.5, 0.55-0.75, 1.5-3).
+TURBOMACHINERY_DEFAULTS = {
+    "fan_bypass_eff_poly_ref": (0.93, None),
+    "hpc_eff_poly_ref": (0.91, None),
+    "hpt_eff_poly_ref": (0.90, None),
+    "lpt_eff_poly_ref": (0.91, None),
+    "LP_mech_eff_ref": (0.99, None),
+    "core_size_ref": (3.0, "kg/s"),
+    "hpc_clearance_ratio_ref": (0.015, None),
+    "hpt_clearance_ratio_ref": (0.010, None),
+    "fan_shock_loss_factor": (1.0, None),
+    "lpt_exit_mach": (0.40, None),
+    "lpt_exit_hub_tip_ratio": (0.65, None),
+    "lpt_stage_loading": (2.5, None),
+}
+
+#: Inputs of the fan reduction gearbox (``InstalledEngineGroup(gearbox=True)`` only): gear ratio LP turbine /
+#: fan speed (common practice 2.5-3.5) and gearbox efficiency (common practice 0.99-0.995).
+GEARBOX_DEFAULTS = {
+    "gear_ratio": (3.0, None),
+    "gearbox_eff": (0.99, None),
+}
+
+#: Every input default of the installed engine (direct drive): the cycle inputs it does not compute, the
+#: turbomachinery models' inputs and the installation inputs.
+INPUT_DEFAULTS = {**{k: v for k, v in ENGINE_DEFAULTS.items() if k not in COMPUTED_ENGINE_INPUTS},
+                  **TURBOMACHINERY_DEFAULTS, **INSTALLATION_DEFAULTS}
 
 #: Fuel hydrogen-to-carbon atom ratio (an option of the gas model, not a model input); equal to the default
 #: of ``ThermallyPerfectGas`` (a test keeps them equal).

@@ -64,6 +64,29 @@ INPUT_RANGES = {
     "burner_pressure_loss": (0.0, 0.2, False, False, None),
     "core_duct_pressure_loss": (0.0, 0.2, False, False, None),
     "bypass_duct_pressure_loss": (0.0, 0.2, False, False, None),
+    # Technology levels of the efficiencies that the turbomachinery models compute (CoreSizeEfficiencyComp,
+    # FanShockLossComp, LPSpoolComp, GearboxComp): the same ranges as the efficiencies themselves.
+    "fan_bypass_eff_poly_ref": (0.5, 1.0, False, False, None),
+    "hpc_eff_poly_ref": (0.5, 1.0, False, False, None),
+    "hpt_eff_poly_ref": (0.5, 1.0, False, False, None),
+    "lpt_eff_poly_ref": (0.5, 1.0, False, False, None),
+    "LP_mech_eff_ref": (0.5, 1.0, True, False, None),
+    # Core size effect (CoreSizeEfficiencyComp): reference HPC exit corrected flow, small business-jet to the
+    # largest civil cores; tip clearance / blade height at that size, common practice 0.5-3 %.
+    "core_size_ref": (0.2, 50.0, False, False, "kg/s"),
+    "hpc_clearance_ratio_ref": (0.0, 0.1, False, False, None),
+    "hpt_clearance_ratio_ref": (0.0, 0.1, False, False, None),
+    # Fan tip shock loss (FanShockLossComp): factor on the normal-shock model, 0 (off) to 5.
+    "fan_shock_loss_factor": (0.0, 5.0, False, False, None),
+    # LP turbine (LPSpoolComp): exit axial Mach 0.3-0.5 and hub-to-tip 0.55-0.75 (common practice), stage
+    # loading dh/U^2 1.5-3 (common practice; Smith's and Soderberg's data cover about 0.5-4); gear ratio of
+    # reduction gears (common practice 2.5-3.5 in geared turbofans); gearbox efficiency (GearboxComp), common
+    # practice 0.99-0.995.
+    "lpt_exit_mach": (0.1, 0.8, False, False, None),
+    "lpt_exit_hub_tip_ratio": (0.0, 0.9, False, True, None),
+    "lpt_stage_loading": (0.5, 4.0, False, False, None),
+    "gear_ratio": (1.0, 6.0, False, False, None),
+    "gearbox_eff": (0.9, 1.0, False, False, None),
     # Nozzle coefficients: common practice 0.97-0.995 (velocity) and 0.95-0.99 (discharge).
     "core_nozzle_velocity_coeff": (0.8, 1.0, False, False, None),
     "bypass_nozzle_velocity_coeff": (0.8, 1.0, False, False, None),

@@ -15,6 +15,12 @@ C_CORE = 900.0
 C_LPT = 500.0
 #: Nacelle plus pylon structure mass per m**2 of nacelle wetted area, kg/m**2 (calibration).
 C_NAC = 20.0
+#: LP turbine and shafts mass of a reference turbine of LPT_STAGES_REF stages and LPT_TIP_DIAMETER_REF exit tip
+#: diameter, kg (``lp_turbine_model='stages'``; common-practice calibration at the level of C_LPT: a six-stage
+#: LP turbine of a 120 kN class direct-drive engine with a 1 m last stage is about 0.5 t).
+C_LPT_STAGES = 500.0
+LPT_STAGES_REF = 6.0
+LPT_TIP_DIAMETER_REF = 1.0
 
 #: Reference fan tip radius, m.
 R_FAN_REF = 1.0
@@ -28,7 +34,8 @@ P_LP_REF = 10.0e6
 # (name, default, lower, upper, units, desc)
 #: Inputs that follow the engine size, an unknown of the installed engine's coupled solve: their ranges are
 #: correlation validity, judged on the converged state (``check_validity``); the powers need them positive.
-_SIZED = ("fan_tip_diameter", "W25_corrected", "LP_shaft_power", "nacelle_wetted_area")
+_SIZED = ("fan_tip_diameter", "W25_corrected", "LP_shaft_power", "nacelle_wetted_area", "lpt_stage_count",
+          "lpt_tip_diameter", "gearbox_mass")
 
 _INPUTS = (
     ("fan_tip_diameter", 2.0, 0.3, FAN_TIP_DIAMETER_MAX, "m", "Fan tip diameter"),
@@ -42,6 +49,13 @@ _INPUTS = (
     ("k_lpt", 1.0, 0.2, 5.0, None, "Calibration factor on the LP turbine and shafts mass"),
     ("k_nac", 1.0, 0.2, 5.0, None, "Calibration factor on the nacelle and pylon mass"),
 )
+#: LP turbine inputs of ``lp_turbine_model='stages'`` (replacing LP_shaft_power).
+_STAGE_INPUTS = (
+    ("lpt_stage_count", 6.0, 0.2, 20.0, None, "LP turbine stages (continuous, LPSpoolComp)"),
+    ("lpt_tip_diameter", 1.0, 0.1, 4.0, "m", "LP turbine exit tip diameter (LPSpoolComp)"),
+)
+#: Gearbox input of ``include_gearbox=True``.
+_GEARBOX_INPUTS = (("gearbox_mass", 400.0, 0.0, 5000.0, "kg", "Fan reduction gearbox mass (GearboxComp)"),)
 
 
 class EngineMassComp(om.ExplicitComponent):
@@ -56,7 +70,19 @@ class EngineMassComp(om.ExplicitComponent):
         m_{lpt} &= k_{lpt} C_{lpt} \left(\frac{P_{LP}}{10\ \mathrm{MW}}\right)^{0.8} \\
         m_{nac} &= k_{nac} C_{nac} S_{wet}
 
-    with :math:`m_{dry} = m_{fan} + m_{core} + m_{lpt}` and the powerplant mass
+    or, with ``lp_turbine_model='stages'``, from the LP turbine's stage count :math:`n` and exit tip diameter
+    :math:`D_{lpt}` (``LPSpoolComp``; each stage's disc, blades and casing scale with the square of its
+    diameter at fixed technology, common practice):
+
+    .. math::
+        m_{lpt} = k_{lpt} C_{lpt,st} \frac{n}{6} \left(\frac{D_{lpt}}{1\ \mathrm{m}}\right)^2
+
+    with :math:`C_{lpt,st} = 500` kg (common-practice calibration at the level of :math:`C_{lpt}`: a
+    six-stage LP turbine of a 120 kN class direct-drive engine with a 1 m last stage). So a slow LP spool
+    (a low-FPR fan driven directly) makes a heavy turbine. With ``include_gearbox`` the fan reduction
+    gearbox mass (``GearboxComp``) is part of the dry mass.
+
+    The dry mass is :math:`m_{dry} = m_{fan} + m_{core} + m_{lpt}` (+ gearbox) and the powerplant mass
     :math:`m_{dry} + m_{nac}` (nacelle plus pylon). The exponents are physics-flavoured
     (fan blade and case mass between area and volume scaling; core mass proportional to the flow it
     passes, rising gently with pressure level and casing thickness; turbine mass sub-linear in
@@ -82,11 +108,24 @@ class EngineMassComp(om.ExplicitComponent):
         self.options.declare("include_lp_turbine", types=bool, default=True,
                              desc="If False, there is no LP_shaft_power input and the LP turbine "
                                   "and shafts term is zero (for use before a cycle is connected)")
+        self.options.declare("lp_turbine_model", default="power", values=("power", "stages"),
+                             desc="LP turbine mass from its shaft power ('power') or from its stage count and "
+                                  "diameter ('stages', inputs lpt_stage_count and lpt_tip_diameter)")
+        self.options.declare("include_gearbox", types=bool, default=False,
+                             desc="add the input gearbox_mass (a fan reduction gearbox) to the dry mass")
 
     def _input_table(self):
-        if self.options["include_lp_turbine"]:
-            return _INPUTS
-        return tuple(i for i in _INPUTS if i[0] not in ("LP_shaft_power", "k_lpt"))
+        opts = self.options
+        if not opts["include_lp_turbine"]:
+            table = tuple(i for i in _INPUTS if i[0] not in ("LP_shaft_power", "k_lpt"))
+        elif opts["lp_turbine_model"] == "stages":
+            table = tuple(i for i in _INPUTS if i[0] != "LP_shaft_power") + _STAGE_INPUTS
+        else:
+            table = _INPUTS
+        return table + (_GEARBOX_INPUTS if opts["include_gearbox"] else ())
+
+    def _stages(self):
+        return self.options["include_lp_turbine"] and self.options["lp_turbine_model"] == "stages"
 
     def setup(self):
         """Declare inputs and outputs."""
@@ -114,10 +153,14 @@ class EngineMassComp(om.ExplicitComponent):
             "core_mass": ("W25_corrected", "OPR", "k_core"),
             "nacelle_mass": ("nacelle_wetted_area", "k_nac"),
         }
-        if self.options["include_lp_turbine"]:
+        if self._stages():
+            deps["lp_turbine_mass"] = ("lpt_stage_count", "lpt_tip_diameter", "k_lpt")
+        elif self.options["include_lp_turbine"]:
             deps["lp_turbine_mass"] = ("LP_shaft_power", "k_lpt")
         dry = tuple(w for of in ("fan_module_mass", "core_mass", "lp_turbine_mass")
                     for w in deps.get(of, ()))
+        if self.options["include_gearbox"]:
+            dry = dry + ("gearbox_mass",)
         deps["engine_dry_mass"] = dry
         deps["powerplant_mass"] = dry + deps["nacelle_mass"]
         for of, wrts in deps.items():
@@ -138,17 +181,23 @@ class EngineMassComp(om.ExplicitComponent):
         m_fan = inputs["k_fan"] * C_FAN * (0.5 * inputs["fan_tip_diameter"] / R_FAN_REF) ** 2.5
         m_core = (inputs["k_core"] * C_CORE * inputs["W25_corrected"] / W25C_REF
                   * (inputs["OPR"] / OPR_REF) ** 0.4)
-        if self.options["include_lp_turbine"]:
+        if self._stages():
+            m_lpt = (inputs["k_lpt"] * C_LPT_STAGES * inputs["lpt_stage_count"] / LPT_STAGES_REF
+                     * (inputs["lpt_tip_diameter"] / LPT_TIP_DIAMETER_REF) ** 2)
+        elif self.options["include_lp_turbine"]:
             m_lpt = inputs["k_lpt"] * C_LPT * (inputs["LP_shaft_power"] / P_LP_REF) ** 0.8
         else:
             m_lpt = np.zeros_like(m_fan)
         m_nac = inputs["k_nac"] * C_NAC * inputs["nacelle_wetted_area"]
+        dry = m_fan + m_core + m_lpt
+        if self.options["include_gearbox"]:
+            dry = dry + inputs["gearbox_mass"]
         outputs["fan_module_mass"] = m_fan
         outputs["core_mass"] = m_core
         outputs["lp_turbine_mass"] = m_lpt
-        outputs["engine_dry_mass"] = m_fan + m_core + m_lpt
+        outputs["engine_dry_mass"] = dry
         outputs["nacelle_mass"] = m_nac
-        outputs["powerplant_mass"] = m_fan + m_core + m_lpt + m_nac
+        outputs["powerplant_mass"] = dry + m_nac
 
     def compute_partials(self, inputs, partials):
         """Compute the analytic partial derivatives."""
@@ -162,7 +211,13 @@ class EngineMassComp(om.ExplicitComponent):
         d["core_mass", "k_core"] = C_CORE * w * o ** 0.4
         d["core_mass", "W25_corrected"] = inputs["k_core"] * C_CORE / W25C_REF * o ** 0.4
         d["core_mass", "OPR"] = inputs["k_core"] * C_CORE * w * 0.4 * o ** -0.6 / OPR_REF
-        if self.options["include_lp_turbine"]:
+        if self._stages():
+            n, dl = inputs["lpt_stage_count"] / LPT_STAGES_REF, inputs["lpt_tip_diameter"] / LPT_TIP_DIAMETER_REF
+            d["lp_turbine_mass", "k_lpt"] = C_LPT_STAGES * n * dl**2
+            d["lp_turbine_mass", "lpt_stage_count"] = inputs["k_lpt"] * C_LPT_STAGES * dl**2 / LPT_STAGES_REF
+            d["lp_turbine_mass", "lpt_tip_diameter"] = (inputs["k_lpt"] * C_LPT_STAGES * n * 2.0 * dl
+                                                        / LPT_TIP_DIAMETER_REF)
+        elif self.options["include_lp_turbine"]:
             p = inputs["LP_shaft_power"] / P_LP_REF
             d["lp_turbine_mass", "k_lpt"] = C_LPT * p ** 0.8
             d["lp_turbine_mass", "LP_shaft_power"] = inputs["k_lpt"] * C_LPT * 0.8 * p ** -0.2 / P_LP_REF
@@ -174,3 +229,6 @@ class EngineMassComp(om.ExplicitComponent):
             if of != "nacelle_mass":
                 partials["engine_dry_mass", wrt] = val
             partials["powerplant_mass", wrt] = val
+        if self.options["include_gearbox"]:
+            partials["engine_dry_mass", "gearbox_mass"] = np.ones_like(r)
+            partials["powerplant_mass", "gearbox_mass"] = np.ones_like(r)

@@ -4,16 +4,20 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.coupled_solver import COUPLED_SOLVERS, last_solve_succeeded, set_coupled_solvers
+from bypassopt.components.cycle.core_size_efficiency_comp import CoreSizeEfficiencyComp
 from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
+from bypassopt.components.cycle.fan_shock_loss_comp import FanShockLossComp
 from bypassopt.components.cycle.multipoint_group import COOLING_INPUTS
-from bypassopt.components.defaults import INPUT_DEFAULTS
+from bypassopt.components.defaults import GEARBOX_DEFAULTS, INPUT_DEFAULTS
 from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 from .engine_mass_comp import EngineMassComp
 from .fan_sizing_comp import FanSizingComp
+from .gearbox_comp import GearboxComp
 from .ground_clearance_comp import GroundClearanceComp
 from .installed_performance_comp import InstalledPerformanceComp
+from .lp_spool_comp import LPSpoolComp
 from .nacelle_drag_comp import NacelleDragComp
 from .nacelle_geometry_comp import NacelleGeometryComp
 
@@ -46,9 +50,26 @@ class InstalledEngineGroup(om.Group):
     ``W3_corrected``, ...). The cruise speed of the mission is the design-point flight speed V0 and
     the cruise TSFC is the design-point installed TSFC (only the design point is modelled).
 
+    **Turbomachinery technology.** The efficiencies the cycle reads are computed from technology levels
+    (``<name>_ref`` inputs) and the engine's own size, speeds and loadings, so they move with the design:
+    ``CoreSizeEfficiencyComp`` (subsystem ``core_size``) lowers ``hpc_eff_poly`` and ``hpt_eff_poly`` below
+    a reference core size (tip clearance); ``FanShockLossComp`` (``fan_shock``) lowers
+    ``fan_bypass_eff_poly`` with the shock loss of the supersonic fan tip, whose speed follows from the FPR
+    at the design tip loading; ``LPSpoolComp`` (``lp_spool``) gives the LP shaft speed from the fan tip
+    speed and diameter, the LP turbine's exit annulus, blade speed and stage count, and its efficiency
+    ``lpt_eff_poly`` from the stage design (Soderberg); ``GearboxComp`` (``gearbox``) gives
+    ``LP_mech_eff``, with a fan reduction gearbox's loss and mass when ``gearbox=True`` (inputs
+    ``gear_ratio``, ``gearbox_eff``). The LP turbine's mass follows its stage count and diameter. The
+    options ``core_size_effect``, ``fan_shock_effect`` and ``lp_spool_effect`` switch each effect off (the
+    efficiency then equals its ``_ref`` input, and the LP turbine mass follows the LP shaft power as
+    before); with all three off and no gearbox the engine is the one of the fixed-efficiency model. A
+    model that embeds this group (the multipoint engine) passes the computed efficiencies on by name, so
+    its off-design points hold the design's values.
+
     Every engine and installation input left unset takes its value from
-    ``bypassopt.components.defaults.INPUT_DEFAULTS``, the table the demo scenario's ``[engine]`` and
-    ``[installation]`` values also come from, so the bare group and ``bypassopt evaluate`` agree.
+    ``bypassopt.components.defaults.INPUT_DEFAULTS`` (and ``GEARBOX_DEFAULTS`` with a gearbox), the table
+    the demo scenario's ``[engine]`` and ``[installation]`` values also come from, so the bare group and
+    ``bypassopt evaluate`` agree.
     """
 
     def initialize(self):
@@ -63,6 +84,18 @@ class InstalledEngineGroup(om.Group):
         self.options.declare("coupled_solver", default="newton", values=COUPLED_SOLVERS,
                              desc="'newton' (Newton + direct solver) or 'gauss_seidel' (block Gauss-Seidel, "
                                   "flat memory per design for very large vectorized sweeps)")
+        self.options.declare("core_size_effect", types=bool, default=True,
+                             desc="HPC and HPT efficiencies fall below the reference core size (False: equal "
+                                  "to hpc_eff_poly_ref, hpt_eff_poly_ref)")
+        self.options.declare("fan_shock_effect", types=bool, default=True,
+                             desc="fan bypass efficiency lowered by the tip shock loss (False: equal to "
+                                  "fan_bypass_eff_poly_ref)")
+        self.options.declare("lp_spool_effect", types=bool, default=True,
+                             desc="LP turbine efficiency from its stage design and mass from its stage count "
+                                  "(False: lpt_eff_poly_ref, and mass from the LP shaft power)")
+        self.options.declare("gearbox", types=bool, default=False,
+                             desc="a fan reduction gearbox between the LP turbine and the fan (inputs "
+                                  "gear_ratio, gearbox_eff)")
 
     def setup(self):
         """Assemble and configure the coupled solve."""
@@ -72,6 +105,15 @@ class InstalledEngineGroup(om.Group):
                                                        cooling_model=self.options["cooling_model"]),
                            promotes=["*"])
         self.add_subsystem("fan_sizing", FanSizingComp(num_nodes=nn, gas=gas), promotes=["*"])
+        opts = self.options
+        geared = opts["gearbox"]
+        self.add_subsystem("core_size", CoreSizeEfficiencyComp(num_nodes=nn, size_effect=opts["core_size_effect"]),
+                           promotes=["*"])
+        self.add_subsystem("fan_shock", FanShockLossComp(num_nodes=nn, shock_effect=opts["fan_shock_effect"]),
+                           promotes=["*"])
+        self.add_subsystem("lp_spool", LPSpoolComp(num_nodes=nn, gas=gas, geared=geared,
+                                                   stage_effect=opts["lp_spool_effect"]), promotes=["*"])
+        self.add_subsystem("gearbox", GearboxComp(num_nodes=nn, geared=geared), promotes=["*"])
         self.add_subsystem("nacelle", NacelleGeometryComp(num_nodes=nn), promotes=["*"])
         self.add_subsystem("drag", NacelleDragComp(num_nodes=nn),
                            promotes_inputs=["*", ("V18_jet", "V18_full"), ("rho18_jet", "rho18_full"),
@@ -80,14 +122,17 @@ class InstalledEngineGroup(om.Group):
                                             ("Ts8_jet", "Ts8_full"), ("Mach8_jet", "Mach8_full")],
                            promotes_outputs=["*"])
         self.add_subsystem("installed", InstalledPerformanceComp(num_nodes=nn), promotes=["*"])
-        self.add_subsystem("mass", EngineMassComp(num_nodes=nn), promotes=["*"])
+        lpt_mass = "stages" if opts["lp_spool_effect"] else "power"
+        self.add_subsystem("mass", EngineMassComp(num_nodes=nn, lp_turbine_model=lpt_mass, include_gearbox=geared),
+                           promotes=["*"])
         self.add_subsystem("clearance", GroundClearanceComp(num_nodes=nn), promotes=["*"])
         if self.options["include_mission"]:
             self.add_subsystem("mission", MissionFuelComp(num_nodes=nn, num_engines=self.options["num_engines"]),
                                promotes_inputs=["*", ("cruise_speed", "V0")], promotes_outputs=["*"])
         self.set_input_defaults("Mach0", 0.78 * np.ones(nn))
         given = self.options["cooling_model"] == "given"
-        for name, (value, units) in INPUT_DEFAULTS.items():
+        defaults = {**INPUT_DEFAULTS, **(GEARBOX_DEFAULTS if geared else {})}
+        for name, (value, units) in defaults.items():
             if not (given and name in COOLING_INPUTS):  # the correlation's inputs exist only with it
                 self.set_input_defaults(name, value * np.ones(nn), units=units)
 

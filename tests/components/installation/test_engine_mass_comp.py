@@ -37,9 +37,11 @@ RANDOM_RANGES = {
 }
 
 
-def _problem(nn=1, include_lp_turbine=True, **values):
+def _problem(nn=1, include_lp_turbine=True, lp_turbine_model="power", include_gearbox=False, **values):
     prob = om.Problem()
-    prob.model.add_subsystem("mass", EngineMassComp(num_nodes=nn, include_lp_turbine=include_lp_turbine),
+    prob.model.add_subsystem("mass", EngineMassComp(num_nodes=nn, include_lp_turbine=include_lp_turbine,
+                                                    lp_turbine_model=lp_turbine_model,
+                                                    include_gearbox=include_gearbox),
                              promotes=["*"])
     prob.setup(force_alloc_complex=True)
     for name, val in values.items():
@@ -175,6 +177,33 @@ def test_without_lp_turbine_option():
     assert "LP_shaft_power" not in inputs and "k_lpt" not in inputs
     data = prob.check_partials(method="cs", out_stream=None)
     assert_check_partials(data, atol=PARTIALS_TOL, rtol=PARTIALS_TOL)
+
+
+def test_stage_model_lp_turbine_and_gearbox():
+    """lp_turbine_model='stages': LP turbine mass proportional to the stage count and to the square of the exit tip
+    diameter (geometric similarity of discs, blades and casings; common practice), at the stated level (500 kg for
+    6 stages of 1 m, EngineMassComp docstring); include_gearbox adds the gearbox mass to the dry mass."""
+    n = np.array([3.0, 6.0, 12.0, 6.0])
+    d = np.array([1.0, 1.0, 1.0, 1.2])
+    prob = _problem(4, lp_turbine_model="stages", include_gearbox=True, lpt_stage_count=n, lpt_tip_diameter=d,
+                    gearbox_mass=[100.0, 300.0, 300.0, 300.0])
+    prob.run_model()
+    m = prob.get_val("lp_turbine_mass")
+    np.testing.assert_allclose(m, 500.0 * n / 6.0 * d**2, rtol=RTOL_EXACT)
+    parts = sum(prob.get_val(k) for k in ("fan_module_mass", "core_mass", "lp_turbine_mass"))
+    np.testing.assert_allclose(prob.get_val("engine_dry_mass"), parts + prob.get_val("gearbox_mass"), rtol=RTOL_EXACT)
+    inputs = [meta["prom_name"] for _, meta in prob.model.list_inputs(prom_name=True, out_stream=None)]
+    assert "LP_shaft_power" not in inputs
+
+
+def test_stage_model_partials_complex_step():
+    """Analytic partials of the stage model with a gearbox against complex step."""
+    rng = np.random.default_rng(SEED + 7)
+    values = {k: v for k, v in _random_values(4, SEED).items() if k != "LP_shaft_power"}
+    prob = _problem(4, lp_turbine_model="stages", include_gearbox=True, lpt_stage_count=rng.uniform(3.0, 10.0, 4),
+                    lpt_tip_diameter=rng.uniform(0.8, 1.3, 4), gearbox_mass=rng.uniform(200.0, 500.0, 4), **values)
+    prob.run_model()
+    assert_check_partials(prob.check_partials(method="cs", out_stream=None), atol=PARTIALS_TOL, rtol=PARTIALS_TOL)
 
 
 def _random_values(nn, seed):

@@ -15,9 +15,11 @@ CONVERGED_RTOL = 1e-8
 THRUST_RTOL = 1e-9
 TOTALS_TOL = 1e-7
 
-# Common-practice component values of a modern high-BPR engine (field-reference 3.3).
-MODERN_EFFICIENCIES = {"fan_bypass_eff_poly": 0.92, "fan_core_eff_poly": 0.90, "booster_eff_poly": 0.90,
-                       "hpc_eff_poly": 0.91, "hpt_eff_poly": 0.90, "lpt_eff_poly": 0.91}
+# Common-practice component values of a modern high-BPR engine (field-reference 3.3); the fan, HPC, HPT and LPT
+# values are the technology levels the group's turbomachinery models start from (``<name>_ref``): the fan's is
+# that of a shock-free fan, the top of the band.
+MODERN_EFFICIENCIES = {"fan_bypass_eff_poly_ref": 0.93, "fan_core_eff_poly": 0.90, "booster_eff_poly": 0.90,
+                       "hpc_eff_poly_ref": 0.91, "hpt_eff_poly_ref": 0.90, "lpt_eff_poly_ref": 0.91}
 
 # Operating point, aircraft and installation of the demo scenario (scenario.md: an invented twin-jet concept;
 # it sets the operating point only, the expected results come from the sources named in each test).
@@ -32,10 +34,10 @@ COMPARED = ("W2", "Fn_required", "nacelle_drag", "installed_TSFC", "fan_tip_diam
             "clearance_margin", "mission_fuel")
 
 
-def build(nn=1, **overrides):
-    """Installed engine at the demo operating point (values may be overridden)."""
+def build(nn=1, options=None, **overrides):
+    """Installed engine at the demo operating point (values may be overridden; ``options`` of the group)."""
     prob = om.Problem(reports=False)
-    prob.model.add_subsystem("engine", InstalledEngineGroup(num_nodes=nn), promotes=["*"])
+    prob.model.add_subsystem("engine", InstalledEngineGroup(num_nodes=nn, **(options or {})), promotes=["*"])
     prob.setup(force_alloc_complex=True)
     for name, value in {**DEMO, **overrides}.items():
         prob.set_val(name, value)
@@ -103,6 +105,46 @@ def test_totals_match_complex_step(nn):
     assert_check_totals(data, atol=TOTALS_TOL, rtol=TOTALS_TOL)
     for name, meta in prob.model.list_outputs(val=True, out_stream=None):
         assert np.all(np.isfinite(meta["val"])), name
+
+
+ALL_EFFECTS_OFF = {"core_size_effect": False, "fan_shock_effect": False, "lp_spool_effect": False}
+
+
+def test_effects_switched_off_give_the_fixed_efficiency_engine():
+    """With the three effects off the cycle runs at the technology levels and the LP turbine mass follows the LP
+    shaft power (EngineMassComp's power law, 500 kg at 10 MW to the power 0.8): the fixed-efficiency engine."""
+    prob = build(options=ALL_EFFECTS_OFF)
+    prob.run_model()
+    for name, value in MODERN_EFFICIENCIES.items():
+        assert prob.get_val(name.removesuffix("_ref"))[0] == value, name
+    assert prob.get_val("LP_mech_eff")[0] == prob.get_val("LP_mech_eff_ref")[0]
+    power = prob.get_val("LP_shaft_power", units="W")[0]
+    assert prob.get_val("lp_turbine_mass")[0] == pytest.approx(500.0 * (power / 10.0e6) ** 0.8, rel=1e-12)
+
+
+def test_effects_reach_the_cycle():
+    """With the effects on, the cycle's elements read the efficiencies the turbomachinery models compute."""
+    prob = build()
+    prob.run_model()
+    for element, comp, name in (("hpc", "core_size", "hpc_eff_poly"), ("hpt", "core_size", "hpt_eff_poly"),
+                                ("fan", "fan_shock", "fan_bypass_eff_poly"), ("lpt", "lp_spool", "lpt_eff_poly"),
+                                ("lpt", "gearbox", "LP_mech_eff")):
+        assert prob.get_val(f"engine.cycle.{element}.{name}")[0] == prob.get_val(f"engine.{comp}.{name}")[0], name
+    assert prob.get_val("engine.mass.lpt_stage_count")[0] == prob.get_val("engine.lp_spool.lpt_stage_count")[0]
+
+
+def test_geared_engine_totals_match_complex_step():
+    """A geared engine (gear ratio a design input): totals through the coupled solve agree with complex step."""
+    nn = 2
+    rng = np.random.default_rng(4711)
+    prob = build(nn, options={"gearbox": True}, BPR=rng.uniform(10.0, 14.0, nn), FPR=rng.uniform(1.35, 1.5, nn),
+                 OPR=rng.uniform(34.0, 46.0, nn), Tt4=rng.uniform(1600.0, 1720.0, nn))
+    prob.set_val("gear_ratio", rng.uniform(2.0, 3.0, nn))
+    prob.run_model()
+    assert_no_approx_partials(prob.model)
+    data = prob.check_totals(of=["mission_fuel", "lpt_AN2", "gearbox_mass"], wrt=["BPR", "FPR", "gear_ratio"],
+                             method="cs", out_stream=None)
+    assert_check_totals(data, atol=TOTALS_TOL, rtol=TOTALS_TOL)
 
 
 def test_reengining_saves_fuel():
@@ -174,17 +216,9 @@ def minimize_scalar_per_node(evaluate, bounds, xatol):
     return results
 
 
-def test_trends_with_bypass_ratio_at_optimum_fan_pressure_ratio():
-    """Along BPR 6-14, each at its TSFC-optimal FPR: nacelle drag and powerplant mass rise, clearance falls.
-
-    Common practice (field-reference 7.2, 9, 10): at a fixed thrust a higher BPR means a lower specific
-    thrust, more air flow and a bigger fan, so a bigger, heavier nacelle with more wetted area and less
-    room under the wing. The FPR optimum is found per BPR with scipy's bounded minimize_scalar on the
-    model's installed TSFC; the optimum jet velocity ratio lands near 0.8-0.85 (field-reference 5.2, common
-    practice for realistic efficiencies).
-    """
-    bprs = np.array([6.0, 8.0, 10.0, 12.0, 14.0])
-    prob = build(len(bprs), BPR=bprs)
+def _tsfc_optimal_fpr(bprs, options):
+    """TSFC-optimal FPR at each BPR (scipy's bounded minimize_scalar per node) and the problem left at it."""
+    prob = build(len(bprs), options=options, BPR=bprs)
     # FPR brackets: from 1.3 to below the FPR where the LPT leaves the core jet no pressure (falls with BPR)
     bounds = [(1.3, 1.25 + 6.0 / bpr) for bpr in bprs]
 
@@ -198,6 +232,23 @@ def test_trends_with_bypass_ratio_at_optimum_fan_pressure_ratio():
     assert all(r.success for r in results)
     assert np.all([lo + 0.01 < f < hi - 0.01 for f, (lo, hi) in zip(fpr, bounds)])  # interior optima
     installed_tsfc(fpr)
+    return fpr, prob
+
+
+def test_trends_with_bypass_ratio_at_optimum_fan_pressure_ratio():
+    """Along BPR 6-14, each at its TSFC-optimal FPR: nacelle drag and powerplant mass rise, clearance falls.
+
+    Common practice (field-reference 7.2, 9, 10): at a fixed thrust a higher BPR means a lower specific
+    thrust, more air flow and a bigger fan, so a bigger, heavier nacelle with more wetted area and less
+    room under the wing. The FPR optimum is found per BPR with scipy's bounded minimize_scalar on the
+    model's installed TSFC. With the fan efficiency independent of FPR (``fan_shock_effect=False``, Guha's
+    premise) the optimum jet velocity ratio lands near 0.8-0.85 (field-reference 5.2, common practice for
+    realistic efficiencies). With the tip shock loss, whose efficiency falls as FPR rises, the optimum moves
+    to a lower FPR and a lower velocity ratio at every BPR (the marginal argument of field-reference 5.2 with
+    a fan efficiency that falls with FPR).
+    """
+    bprs = np.array([6.0, 8.0, 10.0, 12.0, 14.0])
+    fpr, prob = _tsfc_optimal_fpr(bprs, {"fan_shock_effect": False})
     assert np.all(np.diff(fpr) < 0.0)  # the optimum FPR falls with BPR
     assert np.all(np.diff(prob.get_val("nacelle_drag")) > 0.0)
     assert np.all(np.diff(prob.get_val("powerplant_mass")) > 0.0)
@@ -205,6 +256,11 @@ def test_trends_with_bypass_ratio_at_optimum_fan_pressure_ratio():
     assert np.all(np.diff(prob.get_val("fan_tip_diameter")) > 0.0)
     ratio = prob.get_val("jet_velocity_ratio")
     assert np.all((ratio > 0.75) & (ratio < 0.9)), ratio
+
+    fpr_shock, prob_shock = _tsfc_optimal_fpr(bprs, None)
+    assert np.all(np.diff(fpr_shock) < 0.0)
+    assert np.all(fpr_shock < fpr - 0.005), (fpr_shock, fpr)
+    assert np.all(prob_shock.get_val("jet_velocity_ratio") < ratio)
 
 
 @pytest.mark.parametrize("name, value, pattern", [

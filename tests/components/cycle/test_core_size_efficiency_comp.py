@@ -1,0 +1,122 @@
+"""Tests of the core-size effect on HPC and HPT polytropic efficiency (tip clearance over blade height)."""
+
+import numpy as np
+import openmdao.api as om
+import pytest
+from openmdao.utils.assert_utils import assert_check_partials
+
+from bypassopt.components.cycle.core_size_efficiency_comp import CoreSizeEfficiencyComp
+from bypassopt.components.validation import InputRangeError
+
+EXACT_RTOL = 1e-12
+PARTIALS_TOL = 1e-10
+SEED = 314
+
+#: Efficiency lost per unit clearance / blade height: about 1.5 for axial compressors and 2 for unshrouded
+#: turbine rotors (from memory: Freeman, VKI LS 1985-05; Wisler 1985; common practice 1-2 and 1.5-2.5).
+K_COMPRESSOR_RANGE = (1.0, 2.0)
+K_TURBINE_RANGE = (1.5, 2.5)
+
+
+def _problem(nn=1, size_effect=True, **values):
+    prob = om.Problem(reports=False)
+    prob.model.add_subsystem("c", CoreSizeEfficiencyComp(num_nodes=nn, size_effect=size_effect), promotes=["*"])
+    prob.setup(force_alloc_complex=True)
+    for name, val in values.items():
+        prob.set_val(name, val)
+    return prob
+
+
+def _clearance_law(e_ref, k, ratio_ref, w, w_ref):
+    """Efficiency from the clearance law written from its two physical statements, not from the formula.
+
+    The blade height of geometrically similar annuli scales with the square root of the annulus area, the area
+    with the corrected flow (mass-flow function at fixed Mach number, field-reference 7.1); the clearance is
+    the same; efficiency falls linearly with clearance / height.
+    """
+    height_ratio = np.sqrt(w / w_ref)          # h / h_ref
+    ratio = ratio_ref / height_ratio           # c / h
+    return e_ref - k * (ratio - ratio_ref)
+
+
+def test_reference_size_gives_the_reference_efficiency():
+    """At the reference core size the technology levels come out unchanged."""
+    prob = _problem(W3_corrected=2.7, core_size_ref=2.7, hpc_eff_poly_ref=0.905, hpt_eff_poly_ref=0.885)
+    prob.run_model()
+    assert prob.get_val("hpc_eff_poly")[0] == pytest.approx(0.905, rel=EXACT_RTOL)
+    assert prob.get_val("hpt_eff_poly")[0] == pytest.approx(0.885, rel=EXACT_RTOL)
+
+
+def test_quarter_size_doubles_the_clearance_ratio():
+    """A core with a quarter of the corrected flow has half the blade height, twice the clearance ratio, and
+    loses K (c/h)_ref of efficiency, with K inside the published ranges (Freeman 1985, Wisler 1985)."""
+    prob = _problem(W3_corrected=0.75, core_size_ref=3.0, hpc_clearance_ratio_ref=0.015,
+                    hpt_clearance_ratio_ref=0.01)
+    prob.run_model()
+    loss_hpc = 0.91 - prob.get_val("hpc_eff_poly")[0]
+    loss_hpt = 0.90 - prob.get_val("hpt_eff_poly")[0]
+    assert K_COMPRESSOR_RANGE[0] * 0.015 <= loss_hpc <= K_COMPRESSOR_RANGE[1] * 0.015
+    assert K_TURBINE_RANGE[0] * 0.01 <= loss_hpt <= K_TURBINE_RANGE[1] * 0.01
+
+
+@pytest.mark.parametrize("w3", [0.4, 1.5, 2.24, 6.0])
+def test_clearance_law(w3):
+    """Efficiencies equal the clearance law written from its physical statements (K 1.5 and 2.0, the model's
+    stated values)."""
+    prob = _problem(W3_corrected=w3, core_size_ref=3.0, hpc_clearance_ratio_ref=0.015, hpt_clearance_ratio_ref=0.01,
+                    hpc_eff_poly_ref=0.91, hpt_eff_poly_ref=0.90)
+    prob.run_model()
+    assert prob.get_val("hpc_eff_poly")[0] == pytest.approx(_clearance_law(0.91, 1.5, 0.015, w3, 3.0),
+                                                            rel=EXACT_RTOL)
+    assert prob.get_val("hpt_eff_poly")[0] == pytest.approx(_clearance_law(0.90, 2.0, 0.01, w3, 3.0),
+                                                            rel=EXACT_RTOL)
+
+
+def test_trends():
+    """Efficiency rises with core size, losses grow faster as the core shrinks, and the gain above the reference is
+    bounded by the clearance loss of the reference (zero clearance ratio at infinite size)."""
+    w3 = np.append(np.linspace(0.5, 6.0, 12), 50.0)
+    prob = _problem(len(w3), W3_corrected=w3, core_size_ref=3.0)
+    prob.run_model()
+    eff = prob.get_val("hpc_eff_poly")
+    assert np.all(np.diff(eff) > 0.0)
+    assert np.all(np.diff(eff[:-1], 2) < 0.0)  # concave on the uniform grid: each step down in size costs more
+    assert eff[-1] < 0.91 + 1.5 * 0.015
+
+
+def test_switched_off_passes_the_references_through():
+    """size_effect=False: the efficiencies are the reference values whatever the core size."""
+    prob = _problem(2, size_effect=False, W3_corrected=[0.5, 10.0], hpc_eff_poly_ref=0.9, hpt_eff_poly_ref=0.88)
+    prob.run_model()
+    np.testing.assert_array_equal(prob.get_val("hpc_eff_poly"), [0.9, 0.9])
+    np.testing.assert_array_equal(prob.get_val("hpt_eff_poly"), [0.88, 0.88])
+
+
+@pytest.mark.parametrize("size_effect", [True, False])
+def test_partials_complex_step(size_effect):
+    """Analytic partials against complex step."""
+    nn = 4
+    rng = np.random.default_rng(SEED)
+    prob = _problem(nn, size_effect=size_effect, W3_corrected=rng.uniform(0.8, 6.0, nn),
+                    core_size_ref=rng.uniform(2.0, 4.0, nn), hpc_eff_poly_ref=rng.uniform(0.88, 0.93, nn),
+                    hpt_eff_poly_ref=rng.uniform(0.87, 0.92, nn), hpc_clearance_ratio_ref=rng.uniform(0.005, 0.03, nn),
+                    hpt_clearance_ratio_ref=rng.uniform(0.005, 0.03, nn))
+    prob.run_model()
+    assert_check_partials(prob.check_partials(method="cs", out_stream=None), atol=PARTIALS_TOL, rtol=PARTIALS_TOL)
+
+
+@pytest.mark.parametrize("values, pattern", [
+    ({"W3_corrected": 0.0}, r"W3_corrected = 0 kg/s is outside the valid range \(above 0"),
+    ({"W3_corrected": np.nan}, r"W3_corrected = nan kg/s is outside the valid range"),
+    ({"W3_corrected": 0.1}, r"W3_corrected = 0\.1 kg/s is outside the valid range \(from 0\.2 up to 50"),
+    ({"hpc_clearance_ratio_ref": 0.2},
+     r"hpc_clearance_ratio_ref = 0\.2 is outside the valid range \(from 0 up to 0\.1"),
+    ({"hpt_eff_poly_ref": 1.1}, r"hpt_eff_poly_ref = 1\.1 is outside the valid range \(from 0\.5 up to 1\)"),
+    ({"W3_corrected": 0.2, "hpc_clearance_ratio_ref": 0.1, "core_size_ref": 50.0},
+     r"hpc_eff_poly = .* from the size effect at W3_corrected = 0\.2 kg/s .* outside the valid range"),
+])
+def test_bad_inputs_raise(values, pattern):
+    """NaN or out-of-range inputs, and a core too small for the correlation, raise InputRangeError."""
+    prob = _problem(**values)
+    with pytest.raises(InputRangeError, match=pattern):
+        prob.run_model()
