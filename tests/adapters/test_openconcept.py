@@ -202,6 +202,11 @@ def test_optimisation_converges_with_active_limits(example):
     # field-reference 11.1): a check of OpenConcept's integration of the engine's fuel flow, to 0.5 %
     summary = module.report(prob)
     np.testing.assert_allclose(summary["breguet_flown_cruise"], summary["flown"]["cruise"]["fuel"], rtol=5e-3)
+    # and the example's closed form reproduces MissionFuelComp's cruise fuel from the same inputs
+    b = summary["breguet"]
+    np.testing.assert_allclose(module.breguet_cruise_fuel(b["cruise_end_mass"], module.DESIGN_RANGE, b["TSFC"],
+                                                          b["speed"], module.LIFT_TO_DRAG), b["cruise_fuel"],
+                               rtol=1e-12)
 
 
 def test_example_totals_match_complex_step(example):
