@@ -5,9 +5,10 @@ import openmdao.api as om
 
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.components.installation.installed_engine_group import InstalledEngineGroup
-from bypassopt.problems.best_cycle import _LIMIT_SCALING, GEOMETRY_CONSTRAINTS, OBJECTIVES, OPENMDAO_DEFAULT
+from bypassopt.components.installation.installed_multipoint_group import InstalledMultipointGroup
+from bypassopt.problems.best_cycle import GEOMETRY_CONSTRAINTS, OBJECTIVES, OPENMDAO_DEFAULT, limit_scaling
 from bypassopt.problems.drivers import make_driver
-from bypassopt.scenario import CONSTRAINT_LIMITS, DESIGN_VARIABLES, load_scenario, model_inputs
+from bypassopt.scenario import DESIGN_VARIABLES, constraint_limits, is_multipoint, load_scenario, model_inputs
 from bypassopt.components.validation import check_range
 
 #: Standard acceleration of gravity, m/s**2 (ISO 80000-3 / CGPM 1901).
@@ -26,6 +27,9 @@ ENGINE_INPUTS = ("altitude", "dT_isa", "Mach0", "BPR", "FPR", "OPR", "Tt4", "thr
 ENGINE_OUTPUTS = ("installed_TSFC", "powerplant_mass", "nacelle_drag", "mission_fuel", "takeoff_mass",
                   "q0", "V0", "clearance_margin", "diameter_margin", "nacelle_max_diameter", "Tt41",
                   "Tt3", "W3_corrected", "W2", "fan_tip_diameter")
+#: Further outputs promoted with the multipoint engine (take-off limits, cruise performance).
+MULTIPOINT_OUTPUTS = ("takeoff:Tt41", "takeoff:Tt3", "cruise:installed_TSFC", "cruise:thrust_required",
+                      "cruise:nacelle_drag")
 
 
 class WingSizingComp(om.ExplicitComponent):
@@ -269,15 +273,21 @@ class AircraftSizingGroup(om.Group):
         self.options.declare("num_engines", types=int, default=2, lower=1, desc="engines on the aircraft")
         self.options.declare("gas", default=ThermallyPerfectGas(), types=object, recordable=False,
                              desc="working-gas model of the engine")
+        self.options.declare("engine_model", default="multipoint", values=("multipoint", "design_point"),
+                             desc="'multipoint': InstalledMultipointGroup (take-off limits, mission at the cruise "
+                                  "point); 'design_point': InstalledEngineGroup")
 
     def setup(self):
         """Assemble the loop and its solver."""
         nn = self.options["num_nodes"]
         n_eng = self.options["num_engines"]
+        multipoint = self.options["engine_model"] == "multipoint"
+        cls = InstalledMultipointGroup if multipoint else InstalledEngineGroup
+        outputs = list(ENGINE_OUTPUTS) + (list(MULTIPOINT_OUTPUTS) if multipoint else [])
         # Engine first: with the outputs' starting values (24 kN, L/D 17.5, 38.5 t) it starts from a
         # sensible aircraft; the Newton solver then closes the loop.
-        self.add_subsystem("engine", InstalledEngineGroup(num_nodes=nn, gas=self.options["gas"], num_engines=n_eng),
-                           promotes_inputs=list(ENGINE_INPUTS), promotes_outputs=list(ENGINE_OUTPUTS))
+        self.add_subsystem("engine", cls(num_nodes=nn, gas=self.options["gas"], num_engines=n_eng),
+                           promotes_inputs=list(ENGINE_INPUTS), promotes_outputs=outputs)
         self.add_subsystem("wing", WingSizingComp(num_nodes=nn), promotes=["*"])
         self.add_subsystem("polar", AirframeDragComp(num_nodes=nn, num_engines=n_eng), promotes=["*"])
         ones = np.ones(nn)
@@ -317,8 +327,11 @@ def build_embedding_problem(optimize=True, scenario=None, reports=OPENMDAO_DEFAU
     With ``optimize=True`` it minimises the design-mission fuel over BPR, FPR, OPR (the scenario's
     bounds) and the wing loading (``WING_LOADING_BOUNDS``), subject to the constraints of the
     best-installed-cycle problem (nacelle ground clearance and diameter margins >= 0, T41 and T3
-    limits, minimum core size) with SciPy SLSQP (``BackOffSLSQPDriver``). T4 stays at the scenario's
-    value. With ``optimize=False`` the problem has no driver and no design variables: run_model
+    limits, minimum core size; ``bypassopt.scenario.constraint_limits``: with the scenario's multipoint
+    engine model the T41 and T3 limits at take-off too) with SciPy SLSQP (``BackOffSLSQPDriver``). T4 stays
+    at the scenario's value. The engine is the scenario's model (``[optimizer] model``):
+    ``InstalledMultipointGroup`` (the Breguet mission at its cruise point, whose thrust is the airframe
+    drag at mid-cruise from the L/D this group computes) or ``InstalledEngineGroup``. With ``optimize=False`` the problem has no driver and no design variables: run_model
     sizes the aircraft at the scenario's starting design.
 
     Parameters
@@ -336,7 +349,8 @@ def build_embedding_problem(optimize=True, scenario=None, reports=OPENMDAO_DEFAU
         scenario's ``[optimizer] driver``.
     """
     scenario = scenario or load_scenario()
-    model = AircraftSizingGroup(num_engines=scenario["aircraft"]["num_engines"])
+    model = AircraftSizingGroup(num_engines=scenario["aircraft"]["num_engines"],
+                                engine_model="multipoint" if is_multipoint(scenario) else "design_point")
     prob = om.Problem(model) if reports is OPENMDAO_DEFAULT else om.Problem(model, reports=reports)
     model = prob.model
     if optimize:
@@ -352,9 +366,9 @@ def build_embedding_problem(optimize=True, scenario=None, reports=OPENMDAO_DEFAU
         model.add_objective(out, units=units, ref=ref)
         for var, _kind, cunits, cref in GEOMETRY_CONSTRAINTS.values():
             model.add_constraint(var, lower=0.0, units=cunits, ref=cref)
-        for key, (var, kind, _) in CONSTRAINT_LIMITS.items():
-            cunits, cref = _LIMIT_SCALING[var]
-            bound = {"upper": scenario["limits"][key]} if kind == "upper" else {"lower": scenario["limits"][key]}
+        for var, kind, limit, _ in constraint_limits(scenario).values():
+            cunits, cref = limit_scaling(var)
+            bound = {"upper": limit} if kind == "upper" else {"lower": limit}
             model.add_constraint(var, units=cunits, ref=cref, **bound)
     prob.setup(force_alloc_complex=force_alloc_complex)
     apply_scenario_to_aircraft(prob, scenario)

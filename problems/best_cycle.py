@@ -6,14 +6,30 @@ import openmdao.api as om
 
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.components.installation.installed_engine_group import InstalledEngineGroup
+from bypassopt.components.installation.installed_multipoint_group import InstalledMultipointGroup
 from bypassopt.problems.drivers import make_driver
-from bypassopt.scenario import CONSTRAINT_LIMITS, DESIGN_VARIABLES, ScenarioError, load_scenario, model_inputs
+from bypassopt.scenario import (DESIGN_VARIABLES, ScenarioError, constraint_limits, is_multipoint, load_scenario,
+                                model_inputs)
 
-#: Objective choices: name -> (model output, units, reference magnitude for scaling).
+#: Objective choices: name -> (model output, units, reference magnitude for scaling). The installed TSFC is the
+#: design point's in the design-point model and the cruise point's in the multipoint model (``objective_output``).
 OBJECTIVES = {
     "mission_fuel": ("mission_fuel", "kg", 1.0e4),
     "installed_TSFC": ("installed_TSFC", "mg/(N*s)", 10.0),
 }
+#: Objective outputs that the multipoint model takes at its cruise point.
+_CRUISE_OBJECTIVES = ("installed_TSFC",)
+
+
+def objective_output(objective, scenario):
+    """Model output of an objective choice for the scenario's engine model."""
+    out = OBJECTIVES[objective][0]
+    return f"cruise:{out}" if is_multipoint(scenario) and objective in _CRUISE_OBJECTIVES else out
+
+
+def limit_scaling(var):
+    """(units, reference magnitude) of a limit's model output (a point prefix such as ``takeoff:`` ignored)."""
+    return _LIMIT_SCALING[var.split(":")[-1]]
 
 #: Constraints of the best-installed-cycle problem: name -> (model output, kind, units, scaling ref).
 #: 'lower' means output >= limit. The limits of T41, T3 and core size come from the scenario.
@@ -50,12 +66,20 @@ class BestCycleSettings:
         {model output: (kind, limit, units)} of the constraints; kind 'lower' means output >= limit.
     design_vars : dict
         {model input: {initial, lower, upper, optimize}} of the free design variables.
+    objective_output : str
+        Model output minimised (``objective_output``: ``cruise:installed_TSFC`` for the multipoint model's TSFC).
     """
 
     scenario: dict
     objective: str
     limits: dict = field(default_factory=dict)
     design_vars: dict = field(default_factory=dict)
+    objective_output: str = ""
+
+    def __post_init__(self):
+        """Fill in the objective's model output when not given."""
+        if not self.objective_output:
+            object.__setattr__(self, "objective_output", objective_output(self.objective, self.scenario))
 
 
 def _problem(model, reports):
@@ -84,9 +108,13 @@ def apply_scenario(prob, scenario, skip=(), prefix=""):
 
 
 def build_installed_model(scenario, num_nodes=1):
-    """InstalledEngineGroup configured for the scenario (number of engines, fuel)."""
-    return InstalledEngineGroup(num_nodes=num_nodes, gas=gas_for(scenario),
-                                num_engines=scenario["aircraft"]["num_engines"])
+    """Return the scenario's engine model, configured for its number of engines and fuel.
+
+    ``InstalledMultipointGroup`` for ``[optimizer] model = "multipoint"``, ``InstalledEngineGroup`` for
+    ``"design_point"``.
+    """
+    cls = InstalledMultipointGroup if is_multipoint(scenario) else InstalledEngineGroup
+    return cls(num_nodes=num_nodes, gas=gas_for(scenario), num_engines=scenario["aircraft"]["num_engines"])
 
 
 def build_evaluation_problem(scenario=None, num_nodes=1, design=None, reports=OPENMDAO_DEFAULT,
@@ -119,9 +147,11 @@ def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorde
                              reports=OPENMDAO_DEFAULT, force_alloc_complex=False, limit_takeoff_mass=None):
     """Ready best-installed-cycle optimisation problem (set up, scenario applied, not run), and its settings.
 
-    Minimises ``mission_fuel`` (or ``installed_TSFC``) over the design variables the scenario marks
+    Minimises ``mission_fuel`` (or the installed TSFC) over the design variables the scenario marks
     ``optimize = true`` (BPR, OPR, optionally FPR and T4), subject to nacelle ground-clearance margin
-    >= 0, nacelle diameter <= limit, T41 <= limit, T3 <= limit and HPC exit corrected flow >= limit.
+    >= 0, nacelle diameter <= limit, T41 <= limit, T3 <= limit and HPC exit corrected flow >= limit
+    (``bypassopt.scenario.constraint_limits``: at the design point, and with the multipoint model
+    T41 and T3 at take-off too).
     Design variables are scaled to [0, 1] over their bounds and constraints by typical magnitudes,
     so SLSQP converges in tens of iterations.
 
@@ -169,15 +199,14 @@ def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorde
             free.append(var)
     if not free:
         raise ScenarioError("design_variables: no variable has optimize = true")
-    out, units, ref = OBJECTIVES[objective]
-    model.add_objective(out, units=units, ref=ref)
+    _, units, ref = OBJECTIVES[objective]
+    model.add_objective(objective_output(objective, scenario), units=units, ref=ref)
     limits = {}
     for name, (var, kind, cunits, cref) in GEOMETRY_CONSTRAINTS.items():
         model.add_constraint(var, lower=0.0, units=cunits, ref=cref)
         limits[var] = (kind, 0.0, cunits)
-    for key, (var, kind, _) in CONSTRAINT_LIMITS.items():
-        limit = scenario["limits"][key]
-        cunits, cref = _LIMIT_SCALING[var]
+    for var, kind, limit, _ in constraint_limits(scenario).values():
+        cunits, cref = limit_scaling(var)
         bound = {"upper": limit} if kind == "upper" else {"lower": limit}
         model.add_constraint(var, units=cunits, ref=cref, **bound)
         limits[var] = (kind, limit, cunits)

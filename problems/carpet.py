@@ -3,9 +3,10 @@
 import numpy as np
 import openmdao.api as om
 
-from bypassopt.problems.best_cycle import GEOMETRY_CONSTRAINTS, OBJECTIVES, apply_scenario, build_installed_model
+from bypassopt.problems.best_cycle import (GEOMETRY_CONSTRAINTS, OBJECTIVES, apply_scenario, build_installed_model,
+                                          objective_output)
 from bypassopt.problems.drivers import BackOffSLSQPDriver
-from bypassopt.scenario import CONSTRAINT_LIMITS, ScenarioError, load_scenario
+from bypassopt.scenario import ScenarioError, constraint_limits, load_scenario
 
 #: Jet velocity ratio V18/V8 the starting FPR of the 'optimal' mode aims at (near the installed optimum,
 #: field-reference 5.2: optimum ratio about the product of fan and LPT transfer efficiencies, 0.8-0.85).
@@ -82,7 +83,8 @@ class CarpetModelGroup(om.Group):
         self.set_input_defaults("Mach0", scenario["design_point"]["mach"] * np.ones(nn))
         objective = self.options["objective"]
         if objective is not None:
-            out, units, _ = OBJECTIVES[objective]
+            _, units, _ = OBJECTIVES[objective]
+            out = objective_output(objective, scenario)
             self.add_subsystem("node_sum", NodeSumComp(num_nodes=nn, units=units),
                                promotes_inputs=[("values", out)], promotes_outputs=[("total", "objective_sum")])
 
@@ -93,8 +95,8 @@ def carpet_limits(scenario):
     limits = {}
     for name, (var, kind, units, _) in GEOMETRY_CONSTRAINTS.items():
         limits[var] = {"kind": kind, "limit": 0.0, "units": units, "label": labels.get(name, name)}
-    for key, (var, kind, desc) in CONSTRAINT_LIMITS.items():
-        limits[var] = {"kind": kind, "limit": float(scenario["limits"][key]), "units": CARPET_OUTPUTS[var],
+    for var, kind, limit, desc in constraint_limits(scenario).values():
+        limits[var] = {"kind": kind, "limit": float(limit), "units": CARPET_OUTPUTS[var.split(":")[-1]],
                        "label": desc}
     return limits
 
@@ -288,7 +290,8 @@ def run_carpet(scenario=None, bpr_values=None, opr_values=None, fpr_mode=None, f
     if fpr_mode == "fixed" and not 1.0 < fixed_fpr <= 3.0:
         raise ScenarioError(f"fixed_fpr = {fixed_fpr:g} is outside the valid range (above 1 up to 3).")
     objective = scenario["optimizer"]["objective"]
-    obj_out, obj_units, _ = OBJECTIVES[objective]
+    _, obj_units, _ = OBJECTIVES[objective]
+    obj_out = objective_output(objective, scenario)
 
     total = 2 if fpr_mode == "fixed" else 4
     done = [0]
@@ -303,6 +306,8 @@ def run_carpet(scenario=None, bpr_values=None, opr_values=None, fpr_mode=None, f
     bpr, opr = B.ravel(), P.ravel()
     outputs = dict(CARPET_OUTPUTS)
     outputs[obj_out] = obj_units
+    for var, lim in carpet_limits(scenario).items():  # the take-off limits of the multipoint model
+        outputs.setdefault(var, lim["units"])
     evaluator = _BatchEvaluator(scenario, outputs)
     fpr_info = None
 
@@ -373,6 +378,6 @@ def run_carpet(scenario=None, bpr_values=None, opr_values=None, fpr_mode=None, f
         "fpr_optimisation": fpr_info,
         "model_runs": evaluator.model_runs,
     }
-    for name in CARPET_OUTPUTS:
+    for name in outputs:
         result[name] = values[name].reshape(shape)
     return result

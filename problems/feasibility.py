@@ -21,7 +21,11 @@ What it can and cannot say. It is a necessary-condition screen on a grid:
 - a limit met at some point may still conflict with another one there: when no single evaluated point meets
   all limits together, a ``warning`` says so, since the optimizer may still find a point between the grid
   nodes;
-- passing the screen does not guarantee that the optimizer converges.
+- passing the screen does not guarantee that the optimizer converges;
+- it evaluates the design-point engine model (``[optimizer] model = "design_point"``). For the multipoint model
+  it therefore screens only the limits that model shares closely (nacelle diameter, ground clearance, core size):
+  its T41 and T3, at top of climb and at take-off, depend on the cooling air sized at take-off and on the
+  off-design match, which the screen does not run; they are left to the optimizer.
 """
 
 import itertools
@@ -33,7 +37,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.problems.best_cycle import build_evaluation_problem
-from bypassopt.scenario import CONSTRAINT_LIMITS, DESIGN_VARIABLES, load_scenario
+from bypassopt.scenario import CONSTRAINT_LIMITS, DESIGN_VARIABLES, design_point_scenario, is_multipoint, load_scenario
 
 #: Grid points per free design variable, by the number of free variables (about 10 to 80 designs in all).
 POINTS_PER_VARIABLE = {1: 9, 2: 6, 3: 4, 4: 3}
@@ -175,7 +179,7 @@ def evaluate_design_space(scenario=None, points_per_variable=None):
     n = len(points)
     ok = np.ones(n, dtype=bool)
     screen = DesignSpaceScreen(design_vars=names, points=points, evaluated=ok)
-    prob = build_evaluation_problem(scenario, num_nodes=n, reports=False)
+    prob = build_evaluation_problem(design_point_scenario(scenario), num_nodes=n, reports=False)
     prob.final_setup()
     initial_outputs = prob.model._outputs.asarray().copy()
     while True:
@@ -211,7 +215,7 @@ def _evaluate_one_by_one(scenario, screen):
     """Fallback of ``evaluate_design_space``: one single-design problem, run for each design in turn."""
     n = len(screen.points)
     screen.outputs = {name: np.full(n, np.nan) for name in SCREENED_OUTPUTS}
-    prob = build_evaluation_problem(scenario, num_nodes=1, reports=False)
+    prob = build_evaluation_problem(design_point_scenario(scenario), num_nodes=1, reports=False)
     prob.final_setup()
     initial_outputs = prob.model._outputs.asarray().copy()
     for i, point in enumerate(screen.points):
@@ -273,7 +277,11 @@ def limit_margins(screen, scenario, limit_takeoff_mass=None):
         "clearance_margin": (inst["wing_height_m"] - inst["nacelle_wing_gap_m"] - diameter
                              - inst["min_ground_clearance_m"]),
     }
+    # the multipoint model's temperatures depend on its take-off cooling sizing, which the screen does not model
+    temperatures = ("Tt41", "Tt3") if is_multipoint(scenario) else ()
     for key, (var, kind, _) in CONSTRAINT_LIMITS.items():
+        if var in temperatures:
+            continue
         margins[var] = lim[key] - out[var] if kind == "upper" else out[var] - lim[key]
     if _wants_takeoff_mass_limit(scenario, limit_takeoff_mass):
         margins["mtow_margin"] = scenario["aircraft"]["max_takeoff_mass_kg"] - out["takeoff_mass"]

@@ -45,7 +45,8 @@ def kkt_analysis(prob, settings, active_tol=ACTIVE_TOL, method="auto"):
     from .best_cycle import OBJECTIVES
 
     objective = settings.objective
-    obj_name, obj_units, _ = OBJECTIVES[objective]
+    _, obj_units, _ = OBJECTIVES[objective]
+    obj_name = settings.objective_output
     limits = settings.limits
     dvs = settings.design_vars
     dv_names = list(dvs)

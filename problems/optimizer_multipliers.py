@@ -35,13 +35,11 @@ def optimizer_multipliers(prob, settings):
         no multipliers (a driver other than ``om.pyOptSparseDriver``, an optimizer that returns none, or
         a run that has not happened).
     """
-    from .best_cycle import OBJECTIVES
-
     solution = getattr(prob.driver, "pyopt_solution", None)
     lam = getattr(solution, "lambdaStar", None) if solution is not None else None
     if not lam:
         return None
-    obj_name = OBJECTIVES[settings.objective][0]
+    obj_name = settings.objective_output
     objectives = prob.model.get_objectives(recurse=True, use_prom_ivc=True)
     obj_meta = next((m for key, m in objectives.items() if key == obj_name or m.get("name") == obj_name), None)
     constraints = prob.model.get_constraints(recurse=True, use_prom_ivc=True)

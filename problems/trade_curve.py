@@ -4,7 +4,7 @@ from dataclasses import replace
 
 import numpy as np
 
-from bypassopt.problems.best_cycle import OBJECTIVES, build_best_cycle_problem
+from bypassopt.problems.best_cycle import OBJECTIVES, build_best_cycle_problem, objective_output
 from bypassopt.problems.drivers import run_record
 from bypassopt.problems.kkt import kkt_analysis, model_units, unit_factor
 from bypassopt.scenario import SCHEMA, ScenarioError, load_scenario, validate
@@ -42,7 +42,8 @@ def limit_sensitivity(prob, settings, kkt, limit):
     bound U (T41, T3) gives d f*/dU = -lambda.
     """
     section, var, units, _, _, _, constraint = TRADE_LIMITS[limit]
-    obj_name, obj_units, _ = OBJECTIVES[settings.objective]
+    _, obj_units, _ = OBJECTIVES[settings.objective]
+    obj_name = settings.objective_output
     if var is None:
         return float(kkt["constraints"][constraint]["shadow_price"])
     limits = settings.limits
@@ -305,7 +306,8 @@ def run_trade_curve(scenario=None, limit=None, values=None, progress=None, repor
     section, var, units, step, _, _, _ = TRADE_LIMITS[limit]
     scenarios = [_scenario_at(scenario, limit, v) for v in values]  # every value is checked before solving
     objective = scenario["optimizer"]["objective"]
-    obj_name, obj_units, _ = OBJECTIVES[objective]
+    _, obj_units, _ = OBJECTIVES[objective]
+    obj_name = objective_output(objective, scenario)
     tol = 0.1 * step if refine_tol is None else float(refine_tol)
 
     solver = _TradeSolver(scenario, limit, reports)

@@ -75,6 +75,8 @@ def _run_command(run, args):
                 scenario = load_scenario(args.scenario)
             except ScenarioError as err:
                 raise UsageError(str(err)) from err
+            if getattr(args, "model", None):
+                scenario["optimizer"]["model"] = args.model
             if args.command != "scenario":
                 run.check_out()
                 import openmdao.api  # noqa: F401

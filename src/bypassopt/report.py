@@ -58,6 +58,30 @@ QUANTITIES = (
     ("W3_corrected", "kg/s", "HPC exit corrected flow (core size)", "limits"),
 )
 
+#: Flight-point table of the multipoint model: (quantity at the design point, at the off-design points, units,
+#: description). None: the point has no such quantity.
+POINT_QUANTITIES = (
+    ("altitude", "altitude", "m", "altitude"),
+    ("Mach0", "Mach0", None, "flight Mach number"),
+    ("dT_isa", "dT_isa", "K", "temperature offset from ISA"),
+    ("Fn_required", "Fn_required", "N", "net thrust per engine"),
+    ("installed_thrust", "installed_thrust", "N", "installed net thrust per engine"),
+    ("nacelle_drag", "nacelle_drag", "N", "nacelle drag per engine"),
+    ("TSFC", "TSFC", "mg/(N*s)", "uninstalled TSFC"),
+    ("installed_TSFC", "installed_TSFC", "mg/(N*s)", "installed TSFC"),
+    ("FPR", "FPR", None, "fan pressure ratio"),
+    ("OPR", "OPR", None, "overall pressure ratio"),
+    ("BPR", "BPR", None, "bypass ratio"),
+    ("W2", "W2", "kg/s", "inlet air flow"),
+    ("fuel_flow", "fuel_flow", "kg/s", "fuel flow"),
+    ("Tt4", "Tt4", "K", "burner exit temperature T4"),
+    ("Tt41", "Tt41", "K", "HPT rotor inlet temperature T41"),
+    ("Tt3", "Tt3", "K", "HPC exit temperature T3"),
+    ("W3_corrected", "W3_corrected", "kg/s", "HPC exit corrected flow"),
+)
+#: Points of the multipoint model in table order: (point, column title); the design point has no prefix.
+POINTS = (("design", "top of climb (design)"), ("takeoff", "take-off"), ("cruise", "mid-cruise"))
+
 GROUP_TITLES = {
     "cycle": "Cycle", "performance": "Performance at the design point", "aircraft": "Aircraft mission",
     "mass": "Mass", "drag": "Nacelle drag", "size": "Size and installation", "fan": "Fan",
@@ -94,6 +118,8 @@ CONSTRAINT_WORDS = {
     "Tt3": ("T3 limit", 1.0, "1 K", "raising the T3 limit by 1 K"),
     "W3_corrected": ("minimum core size", 0.1, "0.1 kg/s", "lowering the minimum core size by 0.1 kg/s"),
     "mtow_margin": ("maximum take-off mass", 100.0, "100 kg", "raising the maximum take-off mass by 100 kg"),
+    "takeoff:Tt41": ("take-off T41 limit", 1.0, "1 K", "raising the take-off T41 limit by 1 K"),
+    "takeoff:Tt3": ("take-off T3 limit", 1.0, "1 K", "raising the take-off T3 limit by 1 K"),
 }
 
 #: Plausibility thresholds of a result (common practice, no source): a design-mission fuel above this fraction
@@ -150,6 +176,9 @@ def design_summary(prob, node=0, scenario=None):
         "quantities": quantities,
         "stations": station_table(prob, node),
     }
+    points = point_table(prob, node)
+    if points:
+        summary["points"] = points
     if scenario:
         summary["limits"] = design_limits(prob, scenario, node)
         summary["warnings"] = result_warnings(prob, scenario, node)
@@ -206,6 +235,28 @@ def result_warnings(prob, scenario, node=0):
     return out
 
 
+def point_table(prob, node=0):
+    """Quantities at every flight point of a multipoint model, or None for the design-point model.
+
+    Returns
+    -------
+    dict or None
+        {point: {quantity: {value, units, description}}} for the points of ``POINTS`` (the design point's
+        values are the unprefixed outputs and inputs; the others ``<point>:<name>``).
+    """
+    if not _has(prob, "takeoff:Tt41"):
+        return None
+    out = {}
+    for point, _title in POINTS:
+        values = {}
+        for design_name, name, units, desc in POINT_QUANTITIES:
+            var = design_name if point == "design" else f"{point}:{name}"
+            if _has(prob, var):
+                values[name] = {"value": _value(prob, var, units, node), "units": units, "description": desc}
+        out[point] = values
+    return out
+
+
 def design_limits(prob, scenario, node=0):
     """Compare the current design with the scenario's limits.
 
@@ -214,14 +265,14 @@ def design_limits(prob, scenario, node=0):
     dict
         {output: {description, kind, value, limit, units, margin, met}}; margin >= 0 meets the limit.
     """
-    from bypassopt.scenario import CONSTRAINT_LIMITS
+    from bypassopt.scenario import constraint_limits
 
     checks = [("clearance_margin", "lower", 0.0, "m"), ("diameter_margin", "lower", 0.0, "m")]
-    checks += [(var, kind, scenario["limits"][key], None) for key, (var, kind, _) in CONSTRAINT_LIMITS.items()]
+    checks += [(var, kind, limit, None) for var, kind, limit, _ in constraint_limits(scenario).values()]
     units = {"Tt41": "K", "Tt3": "K", "W3_corrected": "kg/s"}
     out = {}
     for name, kind, limit, u in checks:
-        u = u or units[name]
+        u = u or units[name.split(":")[-1]]
         value = _value(prob, name, u, node)
         margin = value - limit if kind == "lower" else limit - value
         out[name] = {"description": CONSTRAINT_WORDS[name][0], "kind": kind, "value": value, "limit": float(limit),
@@ -395,6 +446,9 @@ def summary_rows(summary):
     """
     rows = [{"name": name, "value": q["value"], "units": q["units"] or ""}
             for name, q in summary.get("quantities", {}).items()]
+    for point, values in (summary.get("points") or {}).items():
+        rows += [{"name": f"{point}:{name}", "value": q["value"], "units": q["units"] or ""}
+                 for name, q in values.items()]
     opt = summary.get("optimizer")
     if opt:
         for key in ("success", "iterations", "model_evaluations", "derivative_evaluations",
@@ -570,6 +624,18 @@ def summary_blocks(summary):
     out.append("Design")
     out.append(TextTable(("quantity", "value", "units", "variable"), rows, "lrll"))
     out.append("")
+
+    points = summary.get("points")
+    if points:
+        out.append("Flight points (one engine: designed at top of climb, matched off-design at the others)")
+        titles = [title for point, title in POINTS if point in points]
+        rows = []
+        for _, name, units, desc in POINT_QUANTITIES:
+            cells = [format_number(points[p][name]["value"]) if name in points[p] else ""
+                     for p, _ in POINTS if p in points]
+            rows.append((desc, *cells, units or ""))
+        out.append(TextTable(("quantity", *titles, "units"), rows, "l" + "r" * len(titles) + "l"))
+        out.append("")
 
     if not opt and summary.get("limits"):
         out.append("Limits")

@@ -67,6 +67,16 @@ CONSTRAINT_LIMITS = {
     "min_core_size_kg_s": ("W3_corrected", "lower", "HPC exit corrected flow (core size)"),
 }
 
+#: Limits of the take-off point (``[takeoff]``, multipoint model): key -> (model output, 'upper', description).
+TAKEOFF_LIMITS = {
+    "max_Tt41_K": ("takeoff:Tt41", "upper", "HPT rotor inlet temperature T41 at take-off"),
+    "max_Tt3_K": ("takeoff:Tt3", "upper", "HPC exit temperature T3 at take-off"),
+}
+
+#: Engine models of ``[optimizer] model``: the design point alone, or designed at the design point, checked at
+#: take-off (``[takeoff]``) and flown at mid-cruise (``[cruise]``).
+MODELS = ("multipoint", "design_point")
+
 #: Keys renamed in 0.2 (one name per quantity; loss and Mach names in this project's own words):
 #: (section, old key) -> new key. An old key is an error that names the new one, for one release.
 RENAMED_KEYS = {
@@ -214,6 +224,27 @@ class DesignPoint(_Section):
     thrust_required_N: float = _ranged("installed net thrust per engine the airframe needs", "thrust_required")
 
 
+class Takeoff(_Section):
+    """``[takeoff]`` (multipoint model): the hot-day take-off point where the temperature limits bind."""
+
+    altitude_m: float = _num(-500.0, 4000.0, "airfield geopotential altitude", "takeoff:altitude")
+    dT_isa_K: float = _num(-40.0, 40.0, "temperature offset from ISA (hot day: positive)", "takeoff:dT_isa")
+    mach: float = _num(0.0, 0.4, "flight Mach number at the take-off point (end of the ground run)",
+                       "takeoff:Mach0", lo_open=True)
+    thrust_N: float = _num(1.0e3, 1.0e6, "uninstalled net thrust per engine required at take-off",
+                           "takeoff:Fn_required")
+    max_Tt41_K: float = _num(1000.0, 2400.0, "largest HPT rotor inlet temperature at take-off (from your engine data)")
+    max_Tt3_K: float = _num(500.0, 1300.0, "largest HPC exit temperature at take-off (from your engine data)")
+
+
+class Cruise(_Section):
+    """``[cruise]`` (multipoint model): the cruise condition; the thrust is the airframe's drag at mid-cruise."""
+
+    altitude_m: float = _num(0.0, 15000.0, "cruise geopotential altitude", "cruise:altitude")
+    dT_isa_K: float = _num(-40.0, 40.0, "temperature offset from ISA", "cruise:dT_isa")
+    mach: float = _num(0.0, 0.95, "cruise Mach number", "cruise:Mach0", lo_open=True)
+
+
 class Installation(_Section):
     """``[installation]``: wing and ground geometry, nacelle proportions, fan and core entry sizing."""
 
@@ -309,6 +340,9 @@ class PreviousEngine(_Section):
 class Optimizer(_Section):
     """``[optimizer]``: objective, driver and its settings."""
 
+    model: Literal[MODELS] = _choice("engine model: 'multipoint' (designed at [design_point], temperature limits "
+                                     "at [takeoff], mission at [cruise]) or 'design_point' (everything at "
+                                     "[design_point])")
     objective: Literal["mission_fuel", "installed_TSFC"] = _choice("quantity minimised")
     driver: Literal["SLSQP", "SNOPT", "IPOPT", "pyoptsparse-SLSQP"] = _choice("optimizer")
     maxiter: int = _int(1, 1000, "largest number of optimizer iterations")
@@ -340,6 +374,8 @@ class Trade(_Section):
 SECTION_MODELS = {
     "aircraft": Aircraft,
     "design_point": DesignPoint,
+    "takeoff": Takeoff,
+    "cruise": Cruise,
     "installation": Installation,
     "limits": Limits,
     "engine": Engine,
@@ -821,10 +857,48 @@ def _check_table_units():
 _check_table_units()
 
 
+def is_multipoint(scenario):
+    """Return True when the scenario uses the multipoint engine model (``[optimizer] model``, the default)."""
+    return scenario.get("optimizer", {}).get("model", "multipoint") == "multipoint"
+
+
+#: Sections only the multipoint model reads.
+MULTIPOINT_SECTIONS = ("takeoff", "cruise")
+
+
+def design_point_scenario(scenario):
+    """Return a copy of the scenario whose engine model is the design point alone (``[optimizer] model``)."""
+    out = copy.deepcopy(scenario)
+    out.setdefault("optimizer", {})["model"] = "design_point"
+    return out
+
+
+def constraint_limits(scenario):
+    """Return the temperature and core-size limits of the scenario's engine model.
+
+    Returns
+    -------
+    dict
+        {"section.key": (model output, 'upper'/'lower', limit, description)}: ``[limits]`` at the design point
+        (every model) and, for the multipoint model, ``[takeoff]`` at take-off.
+    """
+    out = {f"limits.{key}": (var, kind, scenario["limits"][key], desc)
+           for key, (var, kind, desc) in CONSTRAINT_LIMITS.items() if key in scenario.get("limits", {})}
+    if is_multipoint(scenario):
+        out.update({f"takeoff.{key}": (var, kind, scenario["takeoff"][key], desc)
+                    for key, (var, kind, desc) in TAKEOFF_LIMITS.items() if key in scenario.get("takeoff", {})})
+    return out
+
+
 def model_inputs(scenario):
-    """Map a validated scenario onto promoted model input names: {name: (value, units)}."""
+    """Map a validated scenario onto promoted model input names: {name: (value, units)}.
+
+    The ``[takeoff]`` and ``[cruise]`` inputs are included only for the multipoint model.
+    """
     out = {}
     for section, keys in SCHEMA.items():
+        if section in MULTIPOINT_SECTIONS and not is_multipoint(scenario):
+            continue
         for key, spec in keys.items():
             var = spec.get("var")
             if var and key in scenario.get(section, {}):

@@ -10,8 +10,9 @@ from openmdao.utils.units import unit_conversion
 from bypassopt.components.defaults import ENGINE_DEFAULTS, FUEL_HC_RATIO, INPUT_DEFAULTS, INSTALLATION_DEFAULTS
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.components.installation.installed_engine_group import InstalledEngineGroup
+from bypassopt.components.installation.installed_multipoint_group import InstalledMultipointGroup
 from bypassopt.problems.best_cycle import build_evaluation_problem
-from bypassopt.scenario import SCHEMA, load_scenario, model_defaults, model_inputs
+from bypassopt.scenario import SCHEMA, design_point_scenario, load_scenario, model_defaults, model_inputs
 
 #: The design both problems evaluate (README's embedding example).
 DESIGN = {"BPR": 10.0, "FPR": 1.55, "OPR": 45.0, "Tt4": 1650.0}
@@ -86,11 +87,32 @@ def test_demo_file_repeats_the_table():
 
 
 def test_bare_group_equals_demo_scenario_evaluation(bare):
-    """The bare group (README embedding example) and the demo scenario's evaluation problem agree to 1e-10."""
+    """The bare group (README embedding example) and the demo's design-point evaluation problem agree to 1e-10."""
     bare.run_model()
-    prob = build_evaluation_problem(load_scenario(), design=DESIGN)
+    prob = build_evaluation_problem(design_point_scenario(load_scenario()), design=DESIGN)
     prob.run_model()
     for name, units in (("installed_TSFC", "mg/(N*s)"), ("mission_fuel", "kg"), ("nacelle_max_diameter", "m"),
                         ("powerplant_mass", "kg")):
         expected = prob.get_val(name, units=units)[0]
         assert bare.get_val(name, units=units)[0] == pytest.approx(expected, rel=1e-10), name
+
+
+def test_bare_multipoint_group_equals_demo_evaluation():
+    """The bare multipoint group, with the design flight condition, thrust and cycle set as README shows, gives the
+    demo scenario's multipoint engine (its take-off and cruise defaults are the demo's) to 1e-9."""
+    prob = om.Problem(reports=False)
+    prob.model.add_subsystem("engine", InstalledMultipointGroup(num_engines=2), promotes=["*"])
+    prob.setup()
+    prob.set_val("altitude", 35000.0, units="ft")
+    prob.set_val("dT_isa", 10.0, units="K")
+    prob.set_val("Mach0", 0.78)
+    prob.set_val("thrust_required", 24.0, units="kN")
+    for name, value in DESIGN.items():
+        prob.set_val(name, value, units="K" if name == "Tt4" else None)
+    prob.run_model()
+    demo = build_evaluation_problem(load_scenario(), design=DESIGN)
+    demo.run_model()
+    for name, units in (("cruise:installed_TSFC", "mg/(N*s)"), ("mission_fuel", "kg"), ("takeoff:Tt41", "K"),
+                        ("takeoff:Tt3", "K"), ("nacelle_max_diameter", "m")):
+        expected = demo.get_val(name, units=units)[0]
+        assert prob.get_val(name, units=units)[0] == pytest.approx(expected, rel=1e-9), name

@@ -121,6 +121,21 @@ def test_summary_text_has_caution_and_tables(evaluated):
     assert max(len(ln) for ln in lines) <= 120
 
 
+def test_flight_points_side_by_side(evaluated):
+    """The multipoint demo's summary has every point's values; the design column repeats the design quantities."""
+    s = design_summary(evaluated)
+    points = s["points"]
+    assert list(points) == ["design", "takeoff", "cruise"]
+    for name in ("TSFC", "Tt41", "Tt3", "FPR", "W2"):
+        assert points["design"][name]["value"] == s["quantities"][name]["value"]
+        assert points["takeoff"][name]["value"] == evaluated.get_val(f"takeoff:{name}",
+                                                                     units=points["takeoff"][name]["units"])[0]
+    text = format_summary(s)
+    assert "Flight points" in text and "take-off" in text and "mid-cruise" in text
+    names = {r["name"] for r in summary_rows(s)}
+    assert {"takeoff:Tt41", "cruise:installed_TSFC", "design:Tt41"} <= names
+
+
 def test_optimum_summary(optimised, tmp_path):
     """Optimizer record, constraints with margins and shadow prices, and a plain sentence per active limit."""
     prob, settings, result = optimised
@@ -133,7 +148,9 @@ def test_optimum_summary(optimised, tmp_path):
     assert s["objective"]["name"] == "mission_fuel"
     assert s["objective"]["value"] == s["quantities"]["mission_fuel"]["value"]
     cons = s["constraints"]
-    assert set(cons) == {"clearance_margin", "diameter_margin", "Tt41", "Tt3", "W3_corrected"}
+    # the demo's multipoint model: the T41 and T3 limits at top of climb ([limits]) and at take-off ([takeoff])
+    assert set(cons) == {"clearance_margin", "diameter_margin", "Tt41", "Tt3", "W3_corrected", "takeoff:Tt41",
+                         "takeoff:Tt3"}
     for c in cons.values():
         sign = 1.0 if c["kind"] == "lower" else -1.0
         assert c["margin"] == pytest.approx(sign * (c["value"] - c["limit"]), abs=1e-12)
@@ -149,7 +166,7 @@ def test_optimum_summary(optimised, tmp_path):
                              "mission fuel."
     assert s["shadow_price_statements"][0] == c["statement"]
     assert s["kkt"]["projected_gradient"] < 1e-2 and s["kkt"]["multipliers_nonnegative"]
-    assert set(s["bounds"]) == {"BPR", "FPR", "OPR"} and set(s["fixed_design_variables"]) == {"Tt4"}
+    assert set(s["bounds"]) == {"BPR", "FPR", "OPR", "Tt4"} and s["fixed_design_variables"] == {}
     text = format_summary(s)
     assert CAUTION in " ".join(text.split())
     assert "Relaxing the nacelle ground-clearance margin by 1 cm" in text and "converged" in text
@@ -157,13 +174,21 @@ def test_optimum_summary(optimised, tmp_path):
     assert json.loads((tmp_path / "o.json").read_text())["constraints"]["clearance_margin"]["active"] is True
 
 
+def _design_point_demo():
+    """The demo with the design-point engine model and T4 held at its initial 1650 K (the 0.2 demo)."""
+    from bypassopt.scenario import design_point_scenario, load_scenario, validate
+
+    held = {"initial": 1650.0, "lower": 1400.0, "upper": 1850.0, "optimize": False}
+    return validate({"design_variables": {"Tt4_K": held}}, base=design_point_scenario(load_scenario()))
+
+
 def test_shadow_price_units_installed_tsfc():
     """With installed TSFC as objective the clearance multiplier is d TSFC / d clearance in mg/(N*s) per m.
 
-    At this optimum only the clearance limit and the OPR upper bound are active, so the BPR row of the
-    KKT conditions alone gives the multiplier: dF/dBPR - lambda d(clearance margin)/dBPR = 0.
+    At this optimum (design-point model, T4 held) only the clearance limit and the OPR upper bound are active, so
+    the BPR row of the KKT conditions alone gives the multiplier: dF/dBPR - lambda d(clearance margin)/dBPR = 0.
     """
-    prob, settings = build_best_cycle_problem(objective="installed_TSFC")
+    prob, settings = build_best_cycle_problem(_design_point_demo(), objective="installed_TSFC")
     result = prob.run_driver()
     s = optimum_summary(prob, settings, result)
     assert s["constraints"]["clearance_margin"]["active"] and s["bounds"]["OPR"]["active"] == "upper"
@@ -285,10 +310,10 @@ def test_plain_and_rich_reports(evaluated):
 
 
 def _short_run(overrides):
-    """The demo with ``overrides`` and an iteration limit of 2: the optimizer stops without converging."""
-    from bypassopt.scenario import load_scenario, validate
+    """The demo (design-point model, T4 held) with ``overrides`` and an iteration limit of 2: the optimizer stops."""
+    from bypassopt.scenario import validate
 
-    scenario = validate({"optimizer": {"maxiter": 2}, **overrides}, base=load_scenario())
+    scenario = validate({"optimizer": {"maxiter": 2}, **overrides}, base=_design_point_demo())
     prob, settings = build_best_cycle_problem(scenario, reports=False)
     result = prob.run_driver()
     return prob, settings, result
@@ -326,11 +351,12 @@ def test_converged_summary_prices_inactive_limits_at_zero(optimised):
 
 def test_implausible_results_are_flagged():
     """L/D = 5 (the lowest the schema accepts): three warnings (L/D; take-off mass above maximum, fuel above
-    MTOM - ZFM; fuel fraction)."""
+    MTOM - ZFM; fuel fraction). Design-point model: with the multipoint model the engine cannot even fly the
+    cruise of such an aircraft (test_absurd_cruise_is_an_analysis_error)."""
     from bypassopt.report import MAX_FUEL_FRACTION, result_warnings
-    from bypassopt.scenario import load_scenario, validate
+    from bypassopt.scenario import design_point_scenario, load_scenario, validate
 
-    scenario = validate({"aircraft": {"lift_to_drag": 5.0}}, base=load_scenario())
+    scenario = validate({"aircraft": {"lift_to_drag": 5.0}}, base=design_point_scenario(load_scenario()))
     prob = build_evaluation_problem(scenario, reports=False)
     prob.run_model()
     warnings = result_warnings(prob, scenario)
@@ -345,6 +371,18 @@ def test_implausible_results_are_flagged():
     text = format_summary(s)
     assert "Warnings" in text and "no jet airliner cruises" in text
     assert json.loads(json.dumps(s["warnings"])) == warnings
+
+
+def test_absurd_cruise_is_an_analysis_error():
+    """Multipoint model, L/D = 5: the cruise thrust is beyond the engine; an AnalysisError names the cruise point."""
+    import openmdao.api as om
+
+    from bypassopt.scenario import load_scenario, validate
+
+    scenario = validate({"aircraft": {"lift_to_drag": 5.0}}, base=load_scenario())
+    prob = build_evaluation_problem(scenario, reports=False)
+    with pytest.raises(om.AnalysisError, match="cruise"):
+        prob.run_model()
 
 
 def test_plausible_design_has_no_warnings_but_the_demos_mass(evaluated):

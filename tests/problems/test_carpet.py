@@ -7,7 +7,7 @@ import pytest
 
 from bypassopt.problems.best_cycle import OBJECTIVES, build_evaluation_problem
 from bypassopt.problems.carpet import CARPET_OUTPUTS, run_carpet
-from bypassopt.scenario import ScenarioError, load_scenario
+from bypassopt.scenario import ScenarioError, design_point_scenario, load_scenario, validate
 
 VECTOR_RTOL = 1e-10       # vectorized carpet against one-design-per-problem evaluations
 FPR_STEP = 5e-3           # neighbours of an optimal FPR
@@ -27,8 +27,10 @@ INFEASIBLE = (1, 2)  # (OPR index, BPR index) of BPR 16, OPR 60
 
 @pytest.fixture(scope="module")
 def scenario():
-    """The built-in demo scenario."""
-    return load_scenario()
+    """The built-in demo with the design-point engine model and T4 held at 1650 K (the carpet machinery; the
+    multipoint model's carpet is test_multipoint_carpet_has_the_takeoff_limits)."""
+    held = {"initial": 1650.0, "lower": 1400.0, "upper": 1850.0, "optimize": False}
+    return validate({"design_variables": {"Tt4_K": held}}, base=design_point_scenario(load_scenario()))
 
 
 @pytest.fixture(scope="module")
@@ -197,3 +199,14 @@ def test_node_sum_comp_partials():
     prob.run_model()
     assert prob.get_val("total")[0] == pytest.approx(4.5, rel=1e-15)
     assert_check_partials(prob.check_partials(method="cs", out_stream=None), atol=1e-12, rtol=1e-12)
+
+
+def test_multipoint_carpet_has_the_takeoff_limits():
+    """The demo's multipoint model: the carpet draws the take-off T41/T3 limits and its values are the model's."""
+    scenario = load_scenario()
+    result = run_carpet(scenario, [9.0, 11.0], [35.0], fpr_mode="fixed", fixed_fpr=1.55)
+    assert {"takeoff:Tt41", "takeoff:Tt3"} <= set(result["limits"])
+    assert result["feasible"].all()
+    prob = point_problem(scenario, 11.0, 35.0, 1.55)
+    for name, units in (("takeoff:Tt41", "K"), ("mission_fuel", "kg")):
+        np.testing.assert_allclose(result[name][0, 1], prob.get_val(name, units=units)[0], rtol=1e-8)

@@ -24,6 +24,10 @@ def add_common_options(common):
     group.add_argument("--scenario", metavar="FILE",
                        help="scenario file (TOML); keys it leaves out take the built-in demo's values "
                             "(default: the built-in demo scenario)")
+    group.add_argument("--model", choices=("multipoint", "design_point"),
+                       help="engine model: 'multipoint' (designed at the design point, temperature limits at "
+                            "take-off, mission at mid-cruise) or 'design_point' (everything at the design point) "
+                            "(default: the scenario's optimizer.model)")
     group.add_argument("--out", metavar="DIR", default=DEFAULT_OUT,
                        help=f"folder for the result files, created if needed (default: ./{DEFAULT_OUT})")
     group.add_argument("--json", action="store_true",

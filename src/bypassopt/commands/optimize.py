@@ -1,5 +1,6 @@
 """``bypassopt optimize``: the best installed cycle, with reports and plots."""
 
+import copy
 import sys
 
 from bypassopt.commands._run import (EXIT_OK, NotConverged, UsageError, check_driver, optimizer_counts,
@@ -104,8 +105,10 @@ def run(run, scenario):
         optimum = {"BPR": q["BPR"]["value"], "OPR": q["OPR"]["value"], "FPR": q["FPR"]["value"],
                    "objective": summary["objective"]["value"]}
         cprog = run.progress("carpet around the optimum")
+        around = copy.deepcopy(scenario)  # the carpet holds T4 at the optimum's (FPR: fixed_fpr)
+        around["design_variables"]["Tt4_K"]["initial"] = q["Tt4"]["value"]
         with run.quiet_stdout():
-            carpet = run_carpet(scenario, fpr_mode="fixed", fixed_fpr=q["FPR"]["value"], progress=cprog)
+            carpet = run_carpet(around, fpr_mode="fixed", fixed_fpr=q["FPR"]["value"], progress=cprog)
         cprog.finish()
         with run.quiet_stdout():
             write_png(run, "carpet.png", plot_carpet, carpet, optimum=optimum)
