@@ -331,8 +331,9 @@ def build_embedding_problem(optimize=True, scenario=None, reports=OPENMDAO_DEFAU
     engine model the T41 and T3 limits at take-off too) with SciPy SLSQP (``BackOffSLSQPDriver``). T4 stays
     at the scenario's value. The engine is the scenario's model (``[optimizer] model``):
     ``InstalledMultipointGroup`` (the Breguet mission at its cruise point, whose thrust is the airframe
-    drag at mid-cruise from the L/D this group computes) or ``InstalledEngineGroup``. With ``optimize=False`` the problem has no driver and no design variables: run_model
-    sizes the aircraft at the scenario's starting design.
+    drag at mid-cruise from the L/D this group computes) or ``InstalledEngineGroup``. With
+    ``optimize=False`` the problem has no driver and no design variables: run_model sizes the aircraft at
+    the scenario's starting design.
 
     Parameters
     ----------
