@@ -115,7 +115,9 @@ class InstalledMultipointGroup(om.Group):
             p_in += [(f"{k}_design", k) for k in GEOMETRY]
             p_in += [(f"{k}_design", k) for k in ("FPR", "OPR", "BPR", "booster_PR", "Tt4", "Tt2", "Pt2")]
             p_in += [("Fn_design", "Fn_required")]
-            self.add_subsystem(point, OffDesignGroup(num_nodes=nn, gas=gas, power_setting="thrust"),
+            # warm start: an optimizer's next design starts from this one's match (1e-10 the same, fewer steps)
+            self.add_subsystem(point, OffDesignGroup(num_nodes=nn, gas=gas, power_setting="thrust",
+                                                     warm_start=True),
                                promotes_inputs=p_in,
                                promotes_outputs=[(k, f"{point}:{k}") for k in POINT_OUTPUTS])
             if point == TAKEOFF:
