@@ -16,7 +16,8 @@ if str(ROOT) not in sys.path:  # benchmarks/ is not installed: import it from th
     # appended, not prepended: the checkout's bypassopt/ folder must not shadow the installed package
     sys.path.append(str(ROOT))
 
-NAMES = ("gradient_accuracy", "derivative_cost", "optimization_cost", "vectorized_scaling", "optimizers", "off_design")
+NAMES = ("gradient_accuracy", "derivative_cost", "optimization_cost", "vectorized_scaling", "optimizers", "off_design",
+         "multipoint")
 RUNNER_TIMEOUT_S = 600
 
 
