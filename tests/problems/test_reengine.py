@@ -1,17 +1,27 @@
 """Re-engining: the previous-generation engine against the best installed cycle on the demo aircraft."""
 
-import copy
-
+import numpy as np
 import pytest
 
 from bypassopt import CAUTION
 from bypassopt.problems.best_cycle import build_evaluation_problem
 from bypassopt.problems.reengine import (COMPARED, POLYTROPIC_EFFICIENCIES, compare_reengining,
-                                         format_reengining, previous_engine_scenario)
-from bypassopt.scenario import ScenarioError, load_scenario
+                                         evaluate_previous_engine, format_reengining, previous_engine_scenario)
+from bypassopt.scenario import SCHEMA, ScenarioError, is_multipoint, load_scenario
 
 #: Re-evaluating a converged design reproduces it to the Newton solver's tolerance.
 REEVAL_RTOL = 1e-7
+#: Standard gravity, m/s^2 (ISO 80000-3).
+G0 = 9.80665
+#: True airspeed at Mach 0.78, 10 668 m, ISA: field-reference 11.2 (a = 296.535 m/s, field-reference 1.3).
+V_CRUISE = 231.298
+#: First-order Breguet against the model's cruise fuel change: the neglected second-order terms of a 13 % TSFC
+#: change are measured at 5.8e-4 (of the fuel); about 2.5 times that.
+BREGUET_FIRST_ORDER_ATOL = 1.5e-3
+#: Re-engining fuel saving from the engine alone: field-reference 11.2 (common practice, no single source) gives
+#: 15-20 % block fuel per seat for a re-engined single-aisle airliner, about two thirds of it from the engine,
+#: i.e. 10-13 %; with "about two thirds" read as 0.6-0.7, 9-14 % (a plausibility band).
+ENGINE_SAVING_BAND = (0.09, 0.14)
 
 
 @pytest.fixture(scope="module")
@@ -42,24 +52,56 @@ def test_differences_consistent(comparison):
         assert r["difference_pct"] == pytest.approx(100.0 * r["difference"] / abs(r["previous"]), rel=1e-12)
 
 
-def test_previous_engine_evaluation_independent(comparison):
-    """Re-evaluating the previous engine by hand (efficiencies lowered, same installation) gives the same numbers."""
+def test_previous_engine_has_the_lowered_technology():
+    """The model inputs that the scenario's [engine] efficiency keys set are, for the previous engine, the new
+    engine's values less the drop: the lowered technology reaches the model (read back from the model's inputs)."""
     scenario = load_scenario()
-    prev = scenario["previous_engine"]
-    lowered = copy.deepcopy(scenario)
+    prob = evaluate_previous_engine(scenario)
+    drop = scenario["previous_engine"]["efficiency_drop"]
     for key in POLYTROPIC_EFFICIENCIES:
-        lowered["engine"][key] -= prev["efficiency_drop"]
-    prob = build_evaluation_problem(lowered, design={"BPR": prev["BPR"], "FPR": prev["FPR"], "OPR": prev["OPR"],
-                                                     "Tt4": prev["Tt4_K"]})
-    prob.run_model()
+        var = SCHEMA["engine"][key]["var"]
+        assert prob.get_val(var)[0] == pytest.approx(scenario["engine"][key] - drop, abs=1e-15), (key, var)
+
+
+def _cruise_state(prob, scenario):
+    tsfc = "cruise:installed_TSFC" if is_multipoint(scenario) else "installed_TSFC"
+    return {"c": float(prob.get_val(tsfc, units="kg/(N*s)")[0]), "m_pp": float(prob.get_val("powerplant_mass")[0]),
+            "cruise_fuel": float(prob.get_val("cruise_fuel", units="kg")[0])}
+
+
+def test_cruise_fuel_saving_by_first_order_breguet(comparison):
+    """The two engines' cruise fuels differ as field-reference 11.1's first-order Breguet says for their installed
+    cruise TSFCs and powerplant masses (hand calculation, independent of the mission code):
+
+    dW_fuel/W_fuel = [x e^x/(e^x - 1)] dc/c + dW_landing/W_landing, x = R g0 c/(V L/D),
+
+    with V at Mach 0.78, 10 668 m ISA (field-reference 11.2) and the landing mass changing with the zero-fuel mass
+    (the mission's reserve and descent fractions are proportional to it: dW/W = n_eng dm_pp / ZFM, ZFM written here
+    from the scenario). Also the mission fuel saving lies in the common-practice re-engining band."""
+    scenario = load_scenario()
+    air = scenario["aircraft"]
+    prev = _cruise_state(evaluate_previous_engine(scenario), scenario)
+    q = comparison["new"]["quantities"]
+    new_prob = build_evaluation_problem(scenario, design={k: q[k]["value"] for k in ("BPR", "FPR", "OPR", "Tt4")})
+    new_prob.run_model()
+    new = _cruise_state(new_prob, scenario)
+
+    x = air["design_range_m"] * G0 * prev["c"] / (V_CRUISE * air["lift_to_drag"])
+    factor = x * np.exp(x) / np.expm1(x)
+    n_eng = air["num_engines"]
+    zfm = air["empty_mass_no_engines_kg"] + air["payload_kg"] + n_eng * prev["m_pp"]
+    predicted = factor * (new["c"] / prev["c"] - 1.0) + n_eng * (new["m_pp"] - prev["m_pp"]) / zfm
+    model = new["cruise_fuel"] / prev["cruise_fuel"] - 1.0
+    assert model == pytest.approx(predicted, abs=BREGUET_FIRST_ORDER_ATOL)
+
     rows = {r["name"]: r for r in comparison["comparison"]}
-    for name, units, _ in COMPARED:
-        assert rows[name]["previous"] == pytest.approx(prob.get_val(name, units=units)[0], rel=REEVAL_RTOL), name
-    assert prob.get_val("hpc_eff_poly")[0] == pytest.approx(scenario["engine"]["hpc_eff_poly"] - 0.025)
+    saving = -rows["mission_fuel"]["difference_pct"] / 100.0
+    assert ENGINE_SAVING_BAND[0] < saving < ENGINE_SAVING_BAND[1], saving
 
 
-def test_new_engine_evaluation_independent(comparison):
-    """The new engine's optimum design re-evaluated with the scenario's efficiencies gives the same numbers."""
+def test_new_engine_summary_reproduces_on_a_fresh_problem(comparison):
+    """CONSISTENCY CHECK, not a verification (same code path): the new engine's optimum design evaluated on a fresh
+    problem gives the reported numbers (no state of the optimisation run leaks into the summary)."""
     q = comparison["new"]["quantities"]
     prob = build_evaluation_problem(load_scenario(), design={k: q[k]["value"] for k in ("BPR", "FPR", "OPR", "Tt4")})
     prob.run_model()
