@@ -7,9 +7,13 @@ from bypassopt.components.cycle.burner_comp import BurnerComp
 from bypassopt.components.cycle.compressor_comp import CompressorComp
 from bypassopt.components.cycle.cooling_comp import CoolingBleedComp
 from bypassopt.components.cycle.cooling_mix_comp import CoolingMixComp
+from bypassopt.components.cycle.core_size_efficiency_comp import CoreSizeEfficiencyComp
 from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
 from bypassopt.components.cycle.duct_comp import DuctComp
 from bypassopt.components.cycle.fan_comp import FanComp
+from bypassopt.components.cycle.fan_shock_loss_comp import FanShockLossComp
+from bypassopt.components.cycle.flight_node_engine_group import (FlightNodeBroadcastComp, FlightNodeEngineGroup,
+                                                                 ThrottleRatingComp)
 from bypassopt.components.cycle.flow_capacity_comp import FlowCapacityComp
 from bypassopt.components.cycle.inlet_comp import InletComp
 from bypassopt.components.cycle.multipoint_group import MultipointEngineGroup
@@ -22,12 +26,16 @@ from bypassopt.components.cycle.turbine_comp import TurbineComp
 from bypassopt.components.gas.thermo import CaloricallyPerfectGas, ThermallyPerfectGas
 from bypassopt.components.installation.engine_mass_comp import EngineMassComp
 from bypassopt.components.installation.fan_sizing_comp import FanSizingComp
+from bypassopt.components.installation.gearbox_comp import GearboxComp
 from bypassopt.components.installation.ground_clearance_comp import GroundClearanceComp
 from bypassopt.components.installation.installed_engine_group import InstalledEngineGroup
+from bypassopt.components.installation.installed_multipoint_group import InstalledMultipointGroup
 from bypassopt.components.installation.installed_performance_comp import InstalledPerformanceComp
+from bypassopt.components.installation.lp_spool_comp import LPSpoolComp
 from bypassopt.components.installation.nacelle_drag_comp import NacelleDragComp
 from bypassopt.components.installation.nacelle_geometry_comp import NacelleGeometryComp
 from bypassopt.components.installation.statistical_engine_mass_comp import StatisticalEngineMassComp
+from bypassopt.components.mission.cruise_thrust_comp import CruiseThrustComp
 from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
 from bypassopt.problems.best_cycle import build_best_cycle_problem, build_evaluation_problem
 from bypassopt.problems.kkt import kkt_analysis
@@ -38,7 +46,9 @@ __all__ = [
     "AtmosphereComp", "FlightConditionComp", "FlightConditionGroup", "BurnerComp", "CompressorComp",
     "CoolingBleedComp", "CoolingMixComp", "TurbofanCycleGroup", "DuctComp", "FanComp", "InletComp", "NozzleComp",
     "PerformanceComp", "SizingComp", "SpoolPowerComp", "TurbineComp", "FlowCapacityComp", "OffDesignGroup",
-    "MultipointEngineGroup",
+    "MultipointEngineGroup", "InstalledMultipointGroup", "CruiseThrustComp", "FlightNodeEngineGroup",
+    "ThrottleRatingComp", "FlightNodeBroadcastComp", "CoreSizeEfficiencyComp", "FanShockLossComp", "GearboxComp",
+    "LPSpoolComp",
     "CaloricallyPerfectGas",
     "ThermallyPerfectGas", "EngineMassComp", "FanSizingComp", "GroundClearanceComp", "InstalledEngineGroup",
     "InstalledPerformanceComp", "NacelleDragComp", "NacelleGeometryComp", "StatisticalEngineMassComp",
