@@ -61,7 +61,8 @@ class MatchLineSearch(om.ArmijoGoldsteinLS):
     ``MatchNewtonSolver`` reuses the last trial's residuals instead of evaluating them again.
     """
 
-    #: Relative decrease of the objective at the last trial (NaN after an AnalysisError there).
+    #: Objective at the last trial and its relative decrease from the start (NaN after an AnalysisError there).
+    last_objective = np.nan
     last_decrease = np.nan
     #: Message of the last AnalysisError a trial raised (reset by ``MatchNewtonSolver`` at each solve).
     last_error = None
@@ -101,7 +102,7 @@ class MatchLineSearch(om.ArmijoGoldsteinLS):
     def _judged_trial(self):
         newton = self._system().nonlinear_solver
         newton._residuals_current = False
-        self.last_decrease = np.nan
+        self.last_objective = self.last_decrease = np.nan
         cache = self._solver_info.save_cache()
         try:
             self._trial()
@@ -113,7 +114,7 @@ class MatchLineSearch(om.ArmijoGoldsteinLS):
             self.last_error = str(err)
             return np.nan
         newton._residuals_current = True
-        phi = self._line_search_objective()
+        phi = self.last_objective = self._line_search_objective()
         self.last_decrease = 1.0 - phi / self._phi0
         return phi
 
@@ -141,8 +142,11 @@ class MatchNewtonSolver(CheckedNewtonSolver):
         system = self._system()
         if system.under_complex_step or self.linesearch is None:
             return
-        decrease = getattr(self.linesearch, "last_decrease", np.nan)
-        self._stalled_iterations = 0 if decrease >= STALL_DECREASE else self._stalled_iterations + 1
+        ls = self.linesearch
+        # balances already within the tolerance (the rest of the residual, the offtake loop, still closing) or
+        # still falling: not stalled
+        progress = ls.last_decrease >= STALL_DECREASE or ls.last_objective <= self.options["atol"]
+        self._stalled_iterations = 0 if progress else self._stalled_iterations + 1
         if self._stalled_iterations >= STALL_ITERATIONS:
             error = (self.linesearch.last_error or "").replace("Error calling compute(), ", "").rstrip(".")
             cut = f" (steps cut back where {error})" if error else ""
@@ -168,7 +172,7 @@ class MatchNewtonSolver(CheckedNewtonSolver):
             try:
                 super().solve()
             except om.AnalysisError:
-                if not group._started_warm:
+                if not getattr(group, "_started_warm", False):
                     raise
                 group._force_design_start = True
                 self._stalled_iterations = 0
