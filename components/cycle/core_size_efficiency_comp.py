@@ -88,7 +88,7 @@ class CoreSizeEfficiencyComp(om.ExplicitComponent):
         """Declare the elementwise partial derivatives."""
         ar = np.arange(self.options["num_nodes"])
         for ref, (out, clearance, _k) in _MACHINES.items():
-            self.declare_partials(out, ref, rows=ar, cols=ar, val=1.0)
+            self.declare_partials(out, ref, rows=ar, cols=ar)
             if self.options["size_effect"]:
                 for wrt in ("W3_corrected", "core_size_ref", clearance):
                     self.declare_partials(out, wrt, rows=ar, cols=ar)
@@ -123,6 +123,8 @@ class CoreSizeEfficiencyComp(om.ExplicitComponent):
 
     def compute_partials(self, inputs, partials):
         """Analytic partial derivatives."""
+        for ref, (out, _clearance, _k) in _MACHINES.items():
+            partials[out, ref] = np.ones_like(inputs[ref])
         if not self.options["size_effect"]:
             return
         w3, wref = inputs["W3_corrected"], inputs["core_size_ref"]

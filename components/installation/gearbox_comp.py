@@ -81,7 +81,7 @@ class GearboxComp(om.ExplicitComponent):
         """Declare the elementwise partial derivatives."""
         ar = np.arange(self.options["num_nodes"])
         if not self.options["geared"]:
-            self.declare_partials("LP_mech_eff", "LP_mech_eff_ref", rows=ar, cols=ar, val=1.0)
+            self.declare_partials("LP_mech_eff", "LP_mech_eff_ref", rows=ar, cols=ar)
             return
         works = ("BPR", "fan_bypass_work", "fan_core_work")
         deps = {
@@ -131,6 +131,7 @@ class GearboxComp(om.ExplicitComponent):
     def compute_partials(self, inputs, partials):
         """Analytic partial derivatives."""
         if not self.options["geared"]:
+            partials["LP_mech_eff", "LP_mech_eff_ref"] = np.ones_like(inputs["LP_mech_eff_ref"])
             return
         eta_m, eta, bpr = inputs["LP_mech_eff_ref"], inputs["gearbox_eff"], inputs["BPR"]
         wfb, wfc, boost = inputs["fan_bypass_work"], inputs["fan_core_work"], inputs["booster_work"]
