@@ -51,7 +51,9 @@ _INPUTS = (
 )
 #: LP turbine inputs of ``lp_turbine_model='stages'`` (replacing LP_shaft_power).
 _STAGE_INPUTS = (
-    ("lpt_stage_count", 6.0, 0.2, 20.0, None, "LP turbine stages (continuous, LPSpoolComp)"),
+    # wide: the mass law is linear in the count; a direct-drive LP turbine behind a slow low-FPR fan needs 20 or
+    # more stages, an absurd design that the optimizer must see as heavy, not as an evaluation failure
+    ("lpt_stage_count", 6.0, 0.1, 50.0, None, "LP turbine stages (continuous, LPSpoolComp)"),
     ("lpt_tip_diameter", 1.0, 0.1, 4.0, "m", "LP turbine exit tip diameter (LPSpoolComp)"),
 )
 #: Gearbox input of ``include_gearbox=True``.
