@@ -27,7 +27,7 @@ INPUT_RANGES = {
     # Whether the fan that this thrust needs fits the fan-diameter range is a cross-key check of the scenario.
     "thrust_required": (0.0, 1.0e6, True, False, "N"),
     # --- aircraft (MissionFuelComp); common practice: light business jets (a few t) to the largest airliners
-    # (A380 / An-225: 575-640 t) with margin.
+    # (about 600 t) with margin.
     "max_takeoff_mass": (1.0e3, 1.0e6, False, False, "kg"),
     "empty_mass_no_engines": (1.0e3, 1.0e6, False, False, "kg"),
     "payload": (0.0, 5.0e5, False, False, "kg"),
@@ -110,7 +110,7 @@ INPUT_RANGES = {
 GAS_TEMPERATURE_RANGE = (200.0, 2400.0)
 
 #: Largest fan tip diameter the engine mass and nacelle correlations are valid for, m (the largest fan in
-#: service, GE9X, is 3.4 m; common practice caps studies at 5 m).
+#: service is about 3.4 m, from memory; common practice caps studies at 5 m).
 FAN_TIP_DIAMETER_MAX = 5.0
 
 #: Smallest fan tip diameter of the nacelle geometry's range, m (common practice: small business jets).

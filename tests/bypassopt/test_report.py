@@ -288,11 +288,11 @@ def test_summary_rows_are_numbers(optimised, tmp_path):
 def test_plain_and_rich_reports(evaluated):
     """Plain text is text_table's; rich draws the same cells; a scenario name cannot inject markup or escapes."""
     s = design_summary(evaluated)
-    s["scenario"] = "[link=http://x]A320[/link]\x1b[31m red\r\nline\u202e"
+    s["scenario"] = "[link=http://x]X170[/link]\x1b[31m red\r\nline\u202e"
     blocks = summary_blocks(s)
     text = render_plain(blocks)
     assert text == format_summary(s) and "\x1b" not in text and "\r" not in text and "\u202e" not in text
-    assert "Scenario: [link=http://x]A320[/link][31m red line" in text
+    assert "Scenario: [link=http://x]X170[/link][31m red line" in text
     table = next(b for b in blocks if isinstance(b, TextTable) and b.headers[0] == "station")
     assert table.lines() == text_table(table.headers, table.rows, table.align)
     from rich.console import Console
@@ -300,7 +300,7 @@ def test_plain_and_rich_reports(evaluated):
     buf = io.StringIO()
     render_rich(blocks, Console(file=buf, force_terminal=True, width=140, color_system="standard"))
     shown = buf.getvalue()
-    assert "[link=http://x]A320[/link]" in shown and "\x1b]8;" not in shown and "\x1b[31m" not in shown
+    assert "[link=http://x]X170[/link]" in shown and "\x1b]8;" not in shown and "\x1b[31m" not in shown
     assert "free stream" in shown and "HPT rotor entry" in shown
     assert clean_text("a\tb\nc", keep_newlines=True) == "a b\nc"
 
