@@ -42,6 +42,10 @@ def _fmt(x):
 ROUND_OFF_RTOL = 1e-12
 
 
+#: Offending nodes listed in one message beyond the first.
+MAX_NODES_LISTED = 200
+
+
 def _range_message(name, value, lower, upper, units, lower_inclusive, upper_inclusive, where):
     """Return (message naming the first offending element, or None when all are valid; any NaN)."""
     v = np.real(np.asarray(value))
@@ -64,6 +68,11 @@ def _range_message(name, value, lower, upper, units, lower_inclusive, upper_incl
     i = int(np.argmax(bad))
     u = f" {units}" if units else ""
     node = f" at node {i}" if flat.size > 1 else ""
+    others = np.flatnonzero(bad)[1:]
+    if others.size:  # every offending node, so that a vectorized caller can set all of them aside at once
+        shown = ", ".join(str(k) for k in others[:MAX_NODES_LISTED])
+        more = f" and {others.size - MAX_NODES_LISTED} more" if others.size > MAX_NODES_LISTED else ""
+        node += f" (also at nodes {shown}{more})"
     lo_s = "" if lower == -np.inf else ("from " if lower_inclusive else "above ") + _fmt(lower)
     hi_s = "" if upper == np.inf else ("up to " if upper_inclusive else "below ") + _fmt(upper)
     rng = " ".join(s for s in (lo_s, hi_s) if s) + u

@@ -83,7 +83,14 @@ class BestCycleSettings:
 
 
 def _problem(model, reports):
-    return om.Problem(model) if reports is OPENMDAO_DEFAULT else om.Problem(model, reports=reports)
+    """Problem whose model holds the engine group as subsystem ``engine``, every variable promoted.
+
+    The engine's coupled Newton solver then works on the engine's variables only: as the root model its direct
+    solve would also step the design variables' automatic sources (by round-off, 12 becoming 11.999999999999998).
+    """
+    root = om.Group()
+    root.add_subsystem("engine", model, promotes=["*"])
+    return om.Problem(root) if reports is OPENMDAO_DEFAULT else om.Problem(root, reports=reports)
 
 
 def apply_scenario(prob, scenario, skip=(), prefix=""):
@@ -114,7 +121,8 @@ def build_installed_model(scenario, num_nodes=1):
     ``"design_point"``.
     """
     cls = InstalledMultipointGroup if is_multipoint(scenario) else InstalledEngineGroup
-    return cls(num_nodes=num_nodes, gas=gas_for(scenario), num_engines=scenario["aircraft"]["num_engines"])
+    return cls(num_nodes=num_nodes, gas=gas_for(scenario), num_engines=scenario["aircraft"]["num_engines"],
+               gearbox=bool(scenario["engine"].get("gearbox", False)))
 
 
 def build_evaluation_problem(scenario=None, num_nodes=1, design=None, reports=OPENMDAO_DEFAULT,

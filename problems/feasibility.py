@@ -52,6 +52,7 @@ SCREENED_OUTPUTS = {"nacelle_max_diameter": "m", "Tt41": "K", "Tt3": "K", "W3_co
                     "takeoff_mass": "kg"}
 
 _NODE = re.compile(r"\bat node (\d+)\b")
+_MORE_NODES = re.compile(r"\(also at nodes ([\d, ]+)")
 
 
 @dataclass(frozen=True)
@@ -205,6 +206,10 @@ def evaluate_design_space(scenario=None, points_per_variable=None):
                 screen.seconds = time.perf_counter() - start
                 return screen
             ok[node] = False
+            more = _MORE_NODES.search(str(err))
+            if more and n > 1:  # every node the failing check named: set aside together
+                others = [int(k) for k in more.group(1).replace(" ", "").split(",") if k]
+                ok[[k for k in others if 0 < k < n]] = False
     screen.outputs = {name: np.where(ok, np.asarray(prob.get_val(name, units=units)).ravel(), np.nan)
                       for name, units in SCREENED_OUTPUTS.items()}
     screen.seconds = time.perf_counter() - start

@@ -95,6 +95,8 @@ class InstalledMultipointGroup(om.Group):
         declare_num_nodes(self.options)
         declare_gas(self.options)
         self.options.declare("num_engines", types=int, default=2, desc="engines on the aircraft")
+        self.options.declare("gearbox", types=bool, default=False,
+                             desc="fan reduction gearbox between LP turbine and fan (InstalledEngineGroup)")
 
     def setup(self):
         """Assemble the points, the cooling sizing, the cruise installation and the mission."""
@@ -105,7 +107,8 @@ class InstalledMultipointGroup(om.Group):
 
         design = om.Group()
         design.add_subsystem("engine", InstalledEngineGroup(num_nodes=nn, gas=gas, include_mission=False,
-                                                            cooling_model="given", num_engines=n_eng),
+                                                            cooling_model="given", num_engines=n_eng,
+                                                            gearbox=self.options["gearbox"]),
                              promotes=["*"])
         design.add_subsystem("capacity", FlowCapacityComp(num_nodes=nn), promotes=["*"])
         self.add_subsystem("design", design, promotes=["*"])

@@ -25,7 +25,7 @@ import annotated_types
 from pydantic import AfterValidator, BaseModel, ConfigDict, Field, ValidationError, create_model, model_validator
 from pydantic.fields import FieldInfo
 
-from bypassopt.components.defaults import FUEL_HC_RATIO, INPUT_DEFAULTS
+from bypassopt.components.defaults import FUEL_HC_RATIO, GEARBOX_DEFAULTS, INPUT_DEFAULTS
 from bypassopt.components.ranges import FAN_TIP_DIAMETER_MAX, FAN_TIP_DIAMETER_MIN, GAS_TEMPERATURE_RANGE, INPUT_RANGES
 
 #: Path of the built-in demo scenario inside the installed package.
@@ -87,6 +87,13 @@ RENAMED_KEYS = {
     ("previous_engine", "T4_K"): "Tt4_K",
     ("limits", "max_T41_K"): "max_Tt41_K",
     ("limits", "max_T3_K"): "max_Tt3_K",
+    # 0.3: the efficiencies the user gives are technology levels; the model lowers them for size, tip shock and
+    # LP-turbine loading (InstalledEngineGroup's technology effects)
+    ("engine", "fan_bypass_eff_poly"): "fan_bypass_eff_poly_ref",
+    ("engine", "hpc_eff_poly"): "hpc_eff_poly_ref",
+    ("engine", "hpt_eff_poly"): "hpt_eff_poly_ref",
+    ("engine", "lpt_eff_poly"): "lpt_eff_poly_ref",
+    ("engine", "LP_mech_eff"): "LP_mech_eff_ref",
 }
 
 # --------------------------------------------------------------------------------------------------------
@@ -102,8 +109,8 @@ def _num(lo, hi, desc, var=None, lo_open=False, hi_open=False, default=None):
 
     Keys whose model input has a value in ``bypassopt.components.defaults`` take that value as default.
     """
-    if var in INPUT_DEFAULTS:
-        default = INPUT_DEFAULTS[var][0]
+    if var in INPUT_DEFAULTS or var in GEARBOX_DEFAULTS:
+        default = {**INPUT_DEFAULTS, **GEARBOX_DEFAULTS}[var][0]
     extra = {"var": var} if var else None
     return Field(default, description=desc, allow_inf_nan=False, json_schema_extra=extra,
                  **_bounds_kwargs(lo, hi, lo_open, hi_open))
@@ -288,14 +295,31 @@ class Limits(_Section):
 class Engine(_Section):
     """``[engine]``: component efficiencies and losses, extractions, fuel and turbine cooling data."""
 
-    fan_bypass_eff_poly: float = _ranged("fan bypass polytropic efficiency", "fan_bypass_eff_poly")
+    fan_bypass_eff_poly_ref: float = _ranged("fan bypass polytropic efficiency without tip shock loss (technology "
+                                             "level)", "fan_bypass_eff_poly_ref")
     fan_core_eff_poly: float = _ranged("fan core-side polytropic efficiency", "fan_core_eff_poly")
     booster_eff_poly: float = _ranged("booster polytropic efficiency", "booster_eff_poly")
-    hpc_eff_poly: float = _ranged("HPC polytropic efficiency", "hpc_eff_poly")
-    hpt_eff_poly: float = _num(0.5, 1.0, "HPT polytropic efficiency", "hpt_eff_poly")
-    lpt_eff_poly: float = _num(0.5, 1.0, "LPT polytropic efficiency", "lpt_eff_poly")
+    hpc_eff_poly_ref: float = _ranged("HPC polytropic efficiency at the reference core size (technology level)",
+                                      "hpc_eff_poly_ref")
+    hpt_eff_poly_ref: float = _ranged("HPT polytropic efficiency at the reference core size (technology level)",
+                                      "hpt_eff_poly_ref")
+    lpt_eff_poly_ref: float = _ranged("LPT polytropic efficiency at the reference stage design (technology level)",
+                                      "lpt_eff_poly_ref")
     HP_mech_eff: float = _num(0.5, 1.0, "HP spool mechanical efficiency", "HP_mech_eff", lo_open=True)
-    LP_mech_eff: float = _num(0.5, 1.0, "LP spool mechanical efficiency", "LP_mech_eff", lo_open=True)
+    LP_mech_eff_ref: float = _ranged("LP spool mechanical efficiency without a gearbox", "LP_mech_eff_ref")
+    core_size_ref_kg_s: float = _ranged("HPC exit corrected flow below which HPC and HPT efficiency fall (core-size "
+                                        "effect)", "core_size_ref")
+    hpc_clearance_ratio_ref: float = _ranged("HPC tip clearance / blade height at the reference core size",
+                                             "hpc_clearance_ratio_ref")
+    hpt_clearance_ratio_ref: float = _ranged("HPT tip clearance / blade height at the reference core size",
+                                             "hpt_clearance_ratio_ref")
+    fan_shock_loss_factor: float = _ranged("scale of the fan tip's shock loss (0: none)", "fan_shock_loss_factor")
+    lpt_exit_mach: float = _ranged("axial Mach number at the LPT exit (sets its annulus)", "lpt_exit_mach")
+    lpt_exit_hub_tip_ratio: float = _ranged("LPT exit hub-to-tip ratio", "lpt_exit_hub_tip_ratio")
+    lpt_stage_loading: float = _ranged("LPT stage loading dh/U^2 (sets its stage count)", "lpt_stage_loading")
+    gearbox: bool = Field(False, description="fan reduction gearbox between the LP turbine and the fan")
+    gear_ratio: float = _ranged("LP turbine speed / fan speed (with gearbox = true)", "gear_ratio")
+    gearbox_eff: float = _ranged("gearbox efficiency (with gearbox = true)", "gearbox_eff")
     inlet_recovery: float = _ranged("intake total-pressure recovery", "inlet_recovery")
     burner_pressure_loss: float = _ranged("burner total-pressure loss fraction", "burner_pressure_loss")
     combustion_eff: float = _num(0.5, 1.0, "combustion efficiency", "combustion_eff", lo_open=True)
@@ -640,6 +664,14 @@ def _check_consistency(s):
     if "Tt4_K" in s.get("design_variables", {}) and "max_Tt41_K" in lim:
         if lim["max_Tt41_K"] <= 1000.0:
             errors.append("infeasible limits: limits.max_Tt41_K must exceed 1000 K.")
+    eng = s.get("engine", {})
+    t3_key = "takeoff" if is_multipoint(s) else "limits"
+    t3_limit = s.get(t3_key, {}).get("max_Tt3_K")
+    for key in ("vane_metal_temperature_K", "rotor_metal_temperature_K"):
+        if t3_limit is not None and key in eng and eng[key] <= t3_limit:
+            errors.append(f"infeasible limits: engine.{key} = {eng[key]:g} K is not above {t3_key}.max_Tt3_K = "
+                          f"{t3_limit:g} K: the cooling air is HPC exit air, so the metal must be allowed hotter "
+                          f"than the compressor exit temperature the limit permits.")
     errors.extend(_check_model_limits(s))
     return errors
 
@@ -686,7 +718,7 @@ def _fan_tip_diameter_estimate(s):
     Pt2 = Ps * (Tt0 / Ts) ** (1.0 / x) * eng.get("inlet_recovery", 1.0)
     V0 = M0 * math.sqrt(g * R_AIR * Ts)
     fpr = dv["FPR"]["initial"]
-    Tt13 = Tt0 * fpr ** (x / eng.get("fan_bypass_eff_poly", 1.0))
+    Tt13 = Tt0 * fpr ** (x / eng.get("fan_bypass_eff_poly_ref", 1.0))
     Pt13 = Pt2 * fpr * (1.0 - eng.get("bypass_duct_pressure_loss", 0.0))
     V19 = eng.get("bypass_nozzle_velocity_coeff", 1.0) * math.sqrt(2.0 * cp * Tt13 * max(0.0, 1.0 - (Ps / Pt13) ** x))
     if V19 <= V0:
@@ -862,6 +894,9 @@ def is_multipoint(scenario):
     return scenario.get("optimizer", {}).get("model", "multipoint") == "multipoint"
 
 
+#: ``[engine]`` keys of the fan reduction gearbox (model inputs only with ``gearbox = true``).
+GEARBOX_KEYS = ("gear_ratio", "gearbox_eff")
+
 #: Sections only the multipoint model reads.
 MULTIPOINT_SECTIONS = ("takeoff", "cruise")
 
@@ -896,9 +931,12 @@ def model_inputs(scenario):
     The ``[takeoff]`` and ``[cruise]`` inputs are included only for the multipoint model.
     """
     out = {}
+    geared = bool(scenario.get("engine", {}).get("gearbox", False))
     for section, keys in SCHEMA.items():
         if section in MULTIPOINT_SECTIONS and not is_multipoint(scenario):
             continue
+        if section == "engine" and not geared:  # the gearbox's inputs exist only with it
+            keys = {k: v for k, v in keys.items() if k not in GEARBOX_KEYS}
         for key, spec in keys.items():
             var = spec.get("var")
             if var and key in scenario.get(section, {}):

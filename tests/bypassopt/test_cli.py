@@ -252,7 +252,11 @@ def test_check_derivatives(tmp_path):
     assert result["passed"] and result["tolerance"] == 1e-6
     assert result["totals"]["max_relative_error"] < 1e-6 and result["partials"]["max_relative_error"] < 1e-6
     rows = _read_csv(tmp_path / "res" / "derivatives.csv")
-    assert {"cycle.hpc", "fan_sizing", "drag", "mission"} <= {r["component"] for r in rows}
+    names = {r["component"] for r in rows}
+    # every point of the demo's multipoint engine: design (its cycle, installation), take-off, cruise, mission
+    for part in ("design.engine.cycle.hpc", "design.engine.fan_sizing", "design.engine.drag", "takeoff.cycle.hpc",
+                 "cruise.cycle.core_nozzle", "cruise_drag", "cruise_thrust", "cooling_sizing", "mission"):
+        assert any(n.endswith(part) for n in names), part
     assert "PASSED" not in run.stdout  # --json: nothing but the JSON document
 
 
@@ -473,7 +477,9 @@ SCREEN_EXIT_S = 25.0
 @pytest.mark.parametrize("command", ["optimize", "reengine"])
 @pytest.mark.parametrize("text, key, reachable", [
     ("[limits]\nmax_nacelle_diameter_m = 0.5\n", "limits.max_nacelle_diameter_m", "smallest nacelle reachable"),
-    ("[limits]\nmax_Tt41_K = 1500.0\n", "limits.max_Tt41_K", "lowest T41 reachable"),
+    # the design-point model: the multipoint model's temperatures are left to the optimizer (feasibility.py)
+    ("[optimizer]\nmodel = \"design_point\"\n[limits]\nmax_Tt41_K = 1500.0\n", "limits.max_Tt41_K",
+     "lowest T41 reachable"),
     ("[installation]\nwing_height_m = 2.0\n", "installation.min_ground_clearance_m",
      "largest ground clearance reachable"),
 ])
@@ -495,6 +501,15 @@ def test_infeasible_limit_exits_2_before_optimising(tmp_path, command, text, key
     assert not (tmp_path / "res").exists() and run.stdout == ""
 
 
+def test_absurd_cruise_is_refused(tmp_path):
+    """Multipoint model, L/D = 5: the initial design cannot fly the cruise; exit 2 naming the cruise point."""
+    (tmp_path / "ld.toml").write_text("[aircraft]\nlift_to_drag = 5.0\n", encoding="utf-8")
+    run = bypassopt("optimize", "--scenario", "ld.toml", "--out", "res", "--no-plots", cwd=tmp_path)
+    assert run.returncode == 2, run.stderr
+    line = run.stderr.strip().splitlines()[-1]
+    assert "initial design cannot be evaluated" in line and "cruise." in line and not (tmp_path / "res").exists()
+
+
 def test_trade_with_a_limit_missed_at_every_value_exits_2(tmp_path):
     (tmp_path / "bad.toml").write_text('[trade]\nlimit = "max_nacelle_diameter_m"\nvalues = [0.5, 1.0]\n',
                                        encoding="utf-8")
@@ -504,8 +519,12 @@ def test_trade_with_a_limit_missed_at_every_value_exits_2(tmp_path):
 
 
 def test_unconverged_implausible_run_claims_no_shadow_price(tmp_path):
-    """L/D = 5 stopped after 2 iterations: exit 3, implausibility warnings, no shadow price in any file."""
-    (tmp_path / "ld.toml").write_text("[aircraft]\nlift_to_drag = 5.0\n[optimizer]\nmaxiter = 2\n", encoding="utf-8")
+    """L/D = 5 stopped after 2 iterations: exit 3, implausibility warnings, no shadow price in any file.
+
+    Design-point model: the multipoint engine cannot fly such an aircraft's cruise at all (exit 2, see
+    test_absurd_cruise_is_refused)."""
+    (tmp_path / "ld.toml").write_text("[aircraft]\nlift_to_drag = 5.0\n[optimizer]\nmaxiter = 2\nmodel = "
+                                      "\"design_point\"\n", encoding="utf-8")
     run = bypassopt("optimize", "--scenario", "ld.toml", "--out", "res", "--no-plots", cwd=tmp_path)
     assert run.returncode == 3, run.stderr
     out = tmp_path / "res"

@@ -7,7 +7,8 @@ import openmdao.api as om
 import pytest
 from openmdao.utils.units import unit_conversion
 
-from bypassopt.components.defaults import ENGINE_DEFAULTS, FUEL_HC_RATIO, INPUT_DEFAULTS, INSTALLATION_DEFAULTS
+from bypassopt.components.defaults import (COMPUTED_ENGINE_INPUTS, ENGINE_DEFAULTS, FUEL_HC_RATIO, INPUT_DEFAULTS,
+                                           INSTALLATION_DEFAULTS, TURBOMACHINERY_DEFAULTS)
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.components.installation.installed_engine_group import InstalledEngineGroup
 from bypassopt.components.installation.installed_multipoint_group import InstalledMultipointGroup
@@ -42,9 +43,11 @@ def _promoted_inputs(prob):
 
 
 def test_table_is_split_in_engine_and_installation():
-    """INPUT_DEFAULTS is exactly the engine table plus the installation table."""
+    """INPUT_DEFAULTS: the engine table less what the technology models compute, their inputs, the installation."""
     assert not set(ENGINE_DEFAULTS) & set(INSTALLATION_DEFAULTS)
-    assert INPUT_DEFAULTS == {**ENGINE_DEFAULTS, **INSTALLATION_DEFAULTS}
+    assert not set(TURBOMACHINERY_DEFAULTS) & (set(ENGINE_DEFAULTS) | set(INSTALLATION_DEFAULTS))
+    engine = {k: v for k, v in ENGINE_DEFAULTS.items() if k not in COMPUTED_ENGINE_INPUTS}
+    assert INPUT_DEFAULTS == {**engine, **TURBOMACHINERY_DEFAULTS, **INSTALLATION_DEFAULTS}
 
 
 def test_every_table_key_is_a_promoted_input_with_matching_units(bare):
@@ -82,7 +85,8 @@ def test_demo_file_repeats_the_table():
     for section, values in model_defaults().items():
         for key, value in values.items():
             assert raw[section][key] == value, (section, key)
-    assert set(model_defaults()["engine"]) == set(SCHEMA["engine"])
+    switches = {k for k, spec in SCHEMA["engine"].items() if spec["type"] == "bool"}  # gearbox: no model input
+    assert set(model_defaults()["engine"]) == set(SCHEMA["engine"]) - switches
     assert set(model_defaults()["installation"]) == set(SCHEMA["installation"])
 
 

@@ -23,9 +23,14 @@ RANGED_KEYS = [(section, key, spec["var"]) for section, keys in SCHEMA.items() f
 
 
 def test_every_table_entry_is_a_scenario_key():
-    """The table holds only model inputs a scenario key sets, and each of them once."""
+    """The table holds only model inputs a scenario key sets, and each of them once; besides them, the efficiencies
+    the installed engine's technology models compute from a key's ``_ref`` level (checked where the cycle reads
+    them)."""
+    from bypassopt.components.defaults import COMPUTED_ENGINE_INPUTS
+
     variables = [var for _, _, var in RANGED_KEYS]
-    assert sorted(variables) == sorted(INPUT_RANGES)
+    assert sorted(variables) == sorted(k for k in INPUT_RANGES if k not in COMPUTED_ENGINE_INPUTS)
+    assert all(f"{k}_ref" in variables for k in COMPUTED_ENGINE_INPUTS if k in INPUT_RANGES)
 
 
 @pytest.mark.parametrize("section, key, var", RANGED_KEYS, ids=[f"{s}.{k}" for s, k, _ in RANGED_KEYS])

@@ -28,6 +28,7 @@ NO_DESIGN_VARIABLES = """\
 BPR = { initial = 10.0, lower = 6.0, upper = 16.0, optimize = false }
 FPR = { initial = 1.50, lower = 1.30, upper = 1.90, optimize = false }
 OPR = { initial = 40.0, lower = 25.0, upper = 60.0, optimize = false }
+Tt4_K = { initial = 1650.0, lower = 1400.0, upper = 1850.0, optimize = false }
 """
 OPTIMIZE_FILES = ["history.sqlite", "manifest.json", "optimum.csv", "optimum.json", "stations.csv", "summary.txt"]
 EVALUATE_FILES = ["design.csv", "design.json", "manifest.json", "stations.csv", "summary.txt"]

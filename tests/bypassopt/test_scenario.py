@@ -238,7 +238,7 @@ def test_old_design_variable_key_is_rejected_with_the_new_name():
 def test_every_error_of_a_file_in_one_message(tmp_path):
     """An unknown key, a value out of range and a wrong type: all three reported together, a line each."""
     text = ("[design_point]\nmach = 1.2\nmach_number = 0.8\n\n"
-            "[engine]\nhpc_eff_poly = \"0.91\"\n")
+            "[engine]\nhpc_eff_poly_ref = \"0.91\"\n")
     with pytest.raises(ScenarioError) as info:
         load_scenario(_write(tmp_path, text))
     msg = str(info.value)
@@ -248,7 +248,7 @@ def test_every_error_of_a_file_in_one_message(tmp_path):
     assert len(lines) == 3
     assert any("design_point.mach = 1.2" in ln and "0.95" in ln and "flight Mach number" in ln for ln in lines)
     assert any("design_point.mach_number" in ln and "allowed keys" in ln for ln in lines)
-    assert any("engine.hpc_eff_poly = '0.91'" in ln and "HPC polytropic efficiency" in ln for ln in lines)
+    assert any("engine.hpc_eff_poly_ref = '0.91'" in ln and "HPC polytropic efficiency" in ln for ln in lines)
 
 
 def test_field_errors_and_infeasible_limits_together():
@@ -362,4 +362,4 @@ def test_schema_view_comes_from_the_models():
     assert SCHEMA["optimizer"]["driver"]["choices"] == ("SLSQP", "SNOPT", "IPOPT", "pyoptsparse-SLSQP")
     assert SCHEMA["design_variables"]["OPR"] == {"type": "dv", "desc": "overall pressure ratio Pt3/Pt2",
                                                  "lo": 10.0, "hi": 80.0}
-    assert SECTION_MODELS["engine"].model_fields["hpc_eff_poly"].json_schema_extra == {"var": "hpc_eff_poly"}
+    assert SECTION_MODELS["engine"].model_fields["hpc_eff_poly_ref"].json_schema_extra == {"var": "hpc_eff_poly_ref"}

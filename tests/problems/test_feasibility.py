@@ -46,8 +46,9 @@ def test_demo_passes_the_screen(demo_screen):
     scenario, screen, seconds = demo_screen
     assert assess(screen, scenario) == []
     assert screen.evaluated[0] and screen.evaluated.sum() >= len(screen.points) // 2
-    # designs the model cannot evaluate (a fan the core cannot drive) are dropped, each for one short run
-    assert screen.runs == 1 + int((~screen.evaluated).sum())
+    # designs the model cannot evaluate (a fan the core cannot drive) are dropped, those a failing check names
+    # together, so at most one short run each
+    assert 1 < screen.runs <= 1 + int((~screen.evaluated).sum())
     assert seconds < SCREEN_BUDGET_S
 
 
