@@ -11,9 +11,10 @@ from bypassopt.scenario import ScenarioError, load_scenario
 
 from .best_cycle import build_best_cycle_problem, build_evaluation_problem
 
-#: Polytropic efficiencies lowered by ``previous_engine.efficiency_drop`` (scenario keys in [engine]).
-POLYTROPIC_EFFICIENCIES = ("fan_bypass_eff_poly", "fan_core_eff_poly", "booster_eff_poly", "hpc_eff_poly",
-                           "hpt_eff_poly", "lpt_eff_poly")
+#: Polytropic efficiencies (technology levels; scenario keys in [engine]) that
+#: ``previous_engine.efficiency_drop`` lowers.
+POLYTROPIC_EFFICIENCIES = ("fan_bypass_eff_poly_ref", "fan_core_eff_poly", "booster_eff_poly",
+                           "hpc_eff_poly_ref", "hpt_eff_poly_ref", "lpt_eff_poly_ref")
 
 #: Compared quantities: (model variable, units, description).
 COMPARED = (
