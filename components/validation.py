@@ -18,6 +18,7 @@ Two kinds of check (issue "Runs you can trust"):
 import contextlib
 
 import math
+import re
 
 import numpy as np
 import openmdao.api as om
@@ -78,6 +79,23 @@ def _range_message(name, value, lower, upper, units, lower_inclusive, upper_incl
     rng = " ".join(s for s in (lo_s, hi_s) if s) + u
     prefix = f"{where}: " if where else ""
     return f"{prefix}{name} = {_fmt(flat[i])}{u}{node} is outside the valid range ({rng}).", bool(np.any(bad_nan))
+
+
+_FIRST_NODE = re.compile(r"\bat node (\d+)\b")
+_MORE_NODES = re.compile(r"\(also at nodes ([\d, ]+)")
+
+
+def failing_nodes(message):
+    """Node indices a range error's message names (``at node i (also at nodes j, k)``), in order; [] if none.
+
+    For vectorized callers that set the failing designs aside and run the others again.
+    """
+    first = _FIRST_NODE.search(message)
+    if not first:
+        return []
+    more = _MORE_NODES.search(message)
+    others = [int(k) for k in more.group(1).replace(" ", "").split(",") if k] if more else []
+    return [int(first.group(1))] + others
 
 
 def check_range(name, value, lower=-np.inf, upper=np.inf, units="", lower_inclusive=True,

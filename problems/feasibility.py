@@ -29,13 +29,13 @@ What it can and cannot say. It is a necessary-condition screen on a grid:
 """
 
 import itertools
-import re
 import time
 from dataclasses import dataclass, field
 
 import numpy as np
 import openmdao.api as om
 
+from bypassopt.components.validation import failing_nodes
 from bypassopt.problems.best_cycle import build_evaluation_problem
 from bypassopt.scenario import CONSTRAINT_LIMITS, DESIGN_VARIABLES, design_point_scenario, is_multipoint, load_scenario
 
@@ -51,8 +51,7 @@ MET_TOL = {"diameter_margin": 1e-6, "clearance_margin": 1e-6, "Tt41": 1e-3, "Tt3
 SCREENED_OUTPUTS = {"nacelle_max_diameter": "m", "Tt41": "K", "Tt3": "K", "W3_corrected": "kg/s",
                     "takeoff_mass": "kg"}
 
-_NODE = re.compile(r"\bat node (\d+)\b")
-_MORE_NODES = re.compile(r"\(also at nodes ([\d, ]+)")
+
 
 
 @dataclass(frozen=True)
@@ -193,8 +192,8 @@ def evaluate_design_space(scenario=None, points_per_variable=None):
             prob.run_model()
             break
         except om.AnalysisError as err:
-            match = _NODE.search(str(err))
-            node = int(match.group(1)) if match and n > 1 else (0 if n == 1 else None)
+            named = failing_nodes(str(err))
+            node = named[0] if named and n > 1 else (0 if n == 1 else None)
             if node is None or node >= n or not ok[node]:
                 _evaluate_one_by_one(scenario, screen)
                 screen.seconds = time.perf_counter() - start
@@ -206,10 +205,7 @@ def evaluate_design_space(scenario=None, points_per_variable=None):
                 screen.seconds = time.perf_counter() - start
                 return screen
             ok[node] = False
-            more = _MORE_NODES.search(str(err))
-            if more and n > 1:  # every node the failing check named: set aside together
-                others = [int(k) for k in more.group(1).replace(" ", "").split(",") if k]
-                ok[[k for k in others if 0 < k < n]] = False
+            ok[[k for k in named[1:] if 0 < k < n]] = False  # every node the failing check named, together
     screen.outputs = {name: np.where(ok, np.asarray(prob.get_val(name, units=units)).ravel(), np.nan)
                       for name, units in SCREENED_OUTPUTS.items()}
     screen.seconds = time.perf_counter() - start
