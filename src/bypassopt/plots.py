@@ -24,11 +24,14 @@ _CONSTRAINT_STYLES = {
     "Tt41": ("T41 = limit", "#9467bd", "||"),
     "Tt3": ("T3 = limit", "#8c564b", "--"),
     "W3_corrected": ("core size (HPC exit corrected flow) = minimum", "#17becf", "xx"),
+    "takeoff:Tt41": ("take-off T41 = limit", "#e377c2", "++"),
+    "takeoff:Tt3": ("take-off T3 = limit", "#2ca02c", ".."),
 }
 
 #: Names of the constraints a swept limit sets, for the trade-curve legend.
 _TRADE_CONSTRAINT_LABELS = {"clearance_margin": "ground-clearance limit", "diameter_margin": "nacelle-diameter limit",
-                            "Tt41": "T41 limit", "Tt3": "T3 limit"}
+                            "Tt41": "T41 limit", "Tt3": "T3 limit", "takeoff:Tt41": "take-off T41 limit",
+                            "takeoff:Tt3": "take-off T3 limit"}
 
 assert CAUTION.startswith("Preliminary-design estimate only")  # keep CAUTION_SHORT in step with it
 
@@ -336,7 +339,7 @@ def carpet_figure(result, optimum=None):
         mode = f"FPR optimised at each point for least {obj_label} (bounds {lo:.3g}-{hi:.3g}; limits not imposed)"
     else:
         mode = f"FPR fixed at {result['fixed_fpr']:.3g}"
-    ax.set_title(f"{result['scenario']}: {obj_label} carpet\n{mode}, Tt4 = {result['Tt4']:g} K",
+    ax.set_title(f"{result['scenario']}: {obj_label} carpet\n{mode}, Tt4 = {result['Tt4']:.0f} K",
                  fontsize=11)
     legend = fig.legend(handles=handles, loc="lower center", bbox_to_anchor=(0.5, 0.03), ncol=1, fontsize=7.5,
                         frameon=False)
