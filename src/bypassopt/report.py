@@ -179,6 +179,7 @@ def design_summary(prob, node=0, scenario=None):
     points = point_table(prob, node)
     if points:
         summary["points"] = points
+        summary["point_stations"] = {p: station_table(prob, node, p) for p, _ in POINTS if p != "design"}
     if scenario:
         summary["limits"] = design_limits(prob, scenario, node)
         summary["warnings"] = result_warnings(prob, scenario, node)
@@ -280,8 +281,10 @@ def design_limits(prob, scenario, node=0):
     return out
 
 
-def station_table(prob, node=0):
+def station_table(prob, node=0, point=None):
     """Rows per station: total temperature (K), total pressure (kPa), fuel-air ratio and flow (kg/s).
+
+    ``point`` names an off-design point of the multipoint model ('takeoff', 'cruise'); None is the design point.
 
     Flows are W2 times the per-unit-inlet-flow fractions of the cycle: bypass W2*BPR/(1+BPR), core
     W2/(1+BPR) up to the HPC exit (before the cooling and customer-bleed extractions), then the
@@ -290,7 +293,12 @@ def station_table(prob, node=0):
     (the nozzle losses are in its velocity coefficient); their static pressure and Mach number are
     given too, as they are for the free stream.
     """
-    v = lambda name, units=None: _value(prob, name, units, node)  # noqa: E731
+    def v(name, units=None):
+        if point is None:
+            return _value(prob, name, units, node)
+        promoted = f"{point}:{name}"  # the point's interface name, else the path inside it
+        return _value(prob, promoted if _has(prob, promoted) else f"{point}.{name}", units, node)
+
     w2, bpr = v("W2", "kg/s"), v("BPR")
     core, bypass = w2 / (1.0 + bpr), w2 * bpr / (1.0 + bpr)
     source = {"7": "7", "8": "7", "17": "17", "18": "17"}
@@ -704,13 +712,20 @@ def summary_blocks(summary):
         out.append(_wrap(f"Note: the take-off mass is {format_number(-mtow['value'])} kg above the maximum take-off "
                          "mass; this is reported, not a limit of the optimisation."))
         out.append("")
-    out.append("Stations")
     fixed = lambda x, fmt: "" if x is None else format(x, fmt)  # noqa: E731
-    rows = [(r["station"], r["location"], fixed(r["Tt_K"], ".1f"), fixed(r["Pt_kPa"], ".2f"),
-             fixed(r["FAR"], ".5f"), fixed(r["W_kg_s"], ".3f"), fixed(r["Ps_kPa"], ".2f"),
-             fixed(r["Mach"], ".3f")) for r in summary["stations"]]
-    out.append(TextTable(("station", "where", "Tt K", "Pt kPa", "fuel/air", "flow kg/s", "Ps kPa", "Mach"), rows,
-                         "llrrrrrr"))
+    titles = dict(POINTS)
+    tables = [("Stations" + (" at top of climb (design point)" if summary.get("point_stations") else ""),
+               summary["stations"])]
+    tables += [(f"Stations at {titles[p]}", rows) for p, rows in (summary.get("point_stations") or {}).items()]
+    for i, (title, stations) in enumerate(tables):
+        if i:
+            out.append("")
+        out.append(title)
+        rows = [(r["station"], r["location"], fixed(r["Tt_K"], ".1f"), fixed(r["Pt_kPa"], ".2f"),
+                 fixed(r["FAR"], ".5f"), fixed(r["W_kg_s"], ".3f"), fixed(r["Ps_kPa"], ".2f"),
+                 fixed(r["Mach"], ".3f")) for r in stations]
+        out.append(TextTable(("station", "where", "Tt K", "Pt kPa", "fuel/air", "flow kg/s", "Ps kPa", "Mach"),
+                             rows, "llrrrrrr"))
     return out
 
 

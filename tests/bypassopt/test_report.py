@@ -113,8 +113,14 @@ def test_summary_text_has_caution_and_tables(evaluated):
     assert "Stations" in text and "installed TSFC" in text
     lines = text.splitlines()
     header = next(ln for ln in lines if ln.strip().startswith("station"))
-    station_lines = lines[lines.index(header) + 2:]
+    rest = lines[lines.index(header) + 2:]
+    station_lines = rest[:rest.index("")] if "" in rest else rest
     assert len(station_lines) == 15
+    # the multipoint demo: a table at each off-design point too, with the point's own state
+    assert "Stations at take-off" in text and "Stations at mid-cruise" in text
+    takeoff = design_summary(evaluated)["point_stations"]["takeoff"]
+    assert takeoff[5]["station"] == "3" and takeoff[5]["Tt_K"] == evaluated.get_val("takeoff:Tt3", units="K")[0]
+    assert takeoff[0]["W_kg_s"] == evaluated.get_val("takeoff:W2", units="kg/s")[0]
     # right-aligned numeric columns end at the same place
     end = header.index("Tt K") + len("Tt K")
     assert all(ln[end - 1] != " " for ln in station_lines)
