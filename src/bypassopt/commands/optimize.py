@@ -55,6 +55,22 @@ def screen_limits(run, scenario):
     return report_findings(run, findings)
 
 
+#: The carpet around the optimum: points per axis and half-widths in BPR and OPR (clipped to the bounds).
+AROUND_POINTS, AROUND_BPR, AROUND_OPR = 7, 3.0, 15.0
+
+
+def carpet_around(scenario, bpr, opr):
+    """BPR and OPR values of the carpet drawn around an optimum: ``AROUND_POINTS`` each, inside the bounds."""
+    import numpy as np
+
+    out = []
+    for key, centre, half in (("BPR", bpr, AROUND_BPR), ("OPR", opr, AROUND_OPR)):
+        dv = scenario["design_variables"][key]
+        lo, hi = max(dv["lower"], centre - half), min(dv["upper"], centre + half)
+        out.append([float(x) for x in np.linspace(lo, hi, AROUND_POINTS)])
+    return out
+
+
 def run(run, scenario):
     """Find the best installed cycle; return (summary, exit code)."""
     from bypassopt.problems.best_cycle import OBJECTIVES as OBJECTIVE_UNITS
@@ -107,8 +123,10 @@ def run(run, scenario):
         cprog = run.progress("carpet around the optimum")
         around = copy.deepcopy(scenario)  # the carpet holds T4 at the optimum's (FPR: fixed_fpr)
         around["design_variables"]["Tt4_K"]["initial"] = q["Tt4"]["value"]
+        bpr_values, opr_values = carpet_around(scenario, q["BPR"]["value"], q["OPR"]["value"])
         with run.quiet_stdout():
-            carpet = run_carpet(around, fpr_mode="fixed", fixed_fpr=q["FPR"]["value"], progress=cprog)
+            carpet = run_carpet(around, bpr_values, opr_values, fpr_mode="fixed", fixed_fpr=q["FPR"]["value"],
+                                progress=cprog)
         cprog.finish()
         with run.quiet_stdout():
             write_png(run, "carpet.png", plot_carpet, carpet, optimum=optimum)
