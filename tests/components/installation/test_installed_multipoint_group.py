@@ -15,7 +15,7 @@ G0 = 9.80665  # standard gravity, m/s^2 (ISO 80000-3)
 # physical balances are checked at that level.
 MATCH_RTOL = 1e-7
 IDENTITY_RTOL = 1e-9
-TOTALS_TOL = 1e-7
+TOTALS_TOL = 1e-8
 
 
 @pytest.fixture(scope="module")
