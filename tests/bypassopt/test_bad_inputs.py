@@ -79,10 +79,10 @@ OTHER_FILES = {
     "unknown section": ("[engines]\nBPR = 3\n", ("engines", "allowed")),
     "unknown key": ("[engine]\nhpc_efficiency = 0.9\n", ("engine.hpc_efficiency", "allowed")),
     "renamed key": ("[engine]\nburner_dPqP = 0.04\n", ("engine.burner_dPqP", "burner_pressure_loss")),
-    "bool for number": ("[engine]\nhpc_eff_poly = true\n", ("engine.hpc_eff_poly", "True")),
+    "bool for number": ("[engine]\nhpc_eff_poly_ref = true\n", ("engine.hpc_eff_poly_ref", "True")),
     "text for number": ('[aircraft]\npayload_kg = "heavy"\n', ("aircraft.payload_kg", "heavy")),
     "float for integer": ("[aircraft]\nnum_engines = 2.5\n", ("aircraft.num_engines", "2.5")),
-    "nan": ("[engine]\nhpc_eff_poly = nan\n", ("engine.hpc_eff_poly", "nan")),
+    "nan": ("[engine]\nhpc_eff_poly_ref = nan\n", ("engine.hpc_eff_poly_ref", "nan")),
     "infinite": ("[design_point]\nthrust_required_N = inf\n", ("design_point.thrust_required_N", "inf")),
     "bad choice": ('[optimizer]\nobjective = "range"\n', ("optimizer.objective", "range", "mission_fuel")),
     "dv bounds crossed": ("[design_variables]\nBPR = { initial = 8.0, lower = 12.0, upper = 6.0 }\n",
@@ -149,7 +149,7 @@ def test_bad_arguments(name, earlier_results, capsys):
 
 
 @pytest.mark.parametrize("section, key, value", [
-    ("engine", "hpc_eff_poly", 1.2),
+    ("engine", "hpc_eff_poly_ref", 1.2),
     ("design_point", "mach", -0.1),
     ("aircraft", "reserve_fraction", 0.9),
     ("installation", "fan_hub_tip_ratio", 0.6),

@@ -478,7 +478,7 @@ SCREEN_EXIT_S = 25.0
 @pytest.mark.parametrize("text, key, reachable", [
     ("[limits]\nmax_nacelle_diameter_m = 0.5\n", "limits.max_nacelle_diameter_m", "smallest nacelle reachable"),
     # the design-point model: the multipoint model's temperatures are left to the optimizer (feasibility.py)
-    ("[optimizer]\nmodel = \"design_point\"\n[limits]\nmax_Tt41_K = 1500.0\n", "limits.max_Tt41_K",
+    ("[optimizer]\nmodel = \"design_point\"\n[limits]\nmax_Tt41_K = 1100.0\n", "limits.max_Tt41_K",
      "lowest T41 reachable"),
     ("[installation]\nwing_height_m = 2.0\n", "installation.min_ground_clearance_m",
      "largest ground clearance reachable"),

@@ -189,20 +189,28 @@ def _design_point_demo():
 
 
 def test_shadow_price_units_installed_tsfc():
-    """With installed TSFC as objective the clearance multiplier is d TSFC / d clearance in mg/(N*s) per m.
+    """With installed TSFC as objective the clearance shadow price is d TSFC* / d(minimum clearance), mg/(N*s) per m.
 
-    At this optimum (design-point model, T4 held) only the clearance limit and the OPR upper bound are active, so
-    the BPR row of the KKT conditions alone gives the multiplier: dF/dBPR - lambda d(clearance margin)/dBPR = 0.
+    Checked against the optimum itself re-solved with the minimum clearance 2 cm larger (envelope theorem,
+    Nocedal and Wright, section 12.8): the change of the optimum TSFC per metre of the limit equals the shadow price
+    to first order (design-point model, T4 held; measured 3 % apart over the 2 cm step, the curvature).
     """
-    prob, settings = build_best_cycle_problem(_design_point_demo(), objective="installed_TSFC")
+    from bypassopt.scenario import validate
+
+    scenario = _design_point_demo()
+    prob, settings = build_best_cycle_problem(scenario, objective="installed_TSFC")
     result = prob.run_driver()
     s = optimum_summary(prob, settings, result)
-    assert s["constraints"]["clearance_margin"]["active"] and s["bounds"]["OPR"]["active"] == "upper"
-    df = prob.compute_totals(of=["installed_TSFC"], wrt=["BPR"], return_format="flat_dict")
-    dc = prob.compute_totals(of=["clearance_margin"], wrt=["BPR"], return_format="flat_dict")
-    df_mg = float(df["installed_TSFC", "BPR"][0, 0]) * 1e6  # kg/(N*s) -> mg/(N*s), units of the model
-    lam = df_mg / float(dc["clearance_margin", "BPR"][0, 0])
-    assert s["constraints"]["clearance_margin"]["multiplier"] == pytest.approx(lam, rel=1e-3)
+    c = s["constraints"]["clearance_margin"]
+    assert c["active"] and c["shadow_price_units"] == "mg/(N*s) per m"
+    step = 0.02
+    tighter = validate({"installation": {"min_ground_clearance_m": scenario["installation"]["min_ground_clearance_m"]
+                                         + step}}, base=scenario)
+    prob2, _ = build_best_cycle_problem(tighter, objective="installed_TSFC")
+    assert prob2.run_driver().success
+    slope = (prob2.get_val("installed_TSFC", units="mg/(N*s)")[0]
+             - prob.get_val("installed_TSFC", units="mg/(N*s)")[0]) / step
+    assert c["shadow_price"] == pytest.approx(slope, rel=0.05)
 
 
 def test_format_number():
@@ -332,14 +340,14 @@ def test_unconverged_violated_summary_claims_no_shadow_price():
     assert not s["optimizer"]["success"]
     t41 = s["constraints"]["Tt41"]
     assert t41["margin"] < 0.0 and t41["violated"] and t41["status"] == "violated" and not t41["active"]
-    assert s["violated_limits"] == ["Tt41"]
+    assert "Tt41" in s["violated_limits"]
     assert s["shadow_price_statements"] == []
     for c in s["constraints"].values():
         assert c["shadow_price"] is None and c["multiplier"] is None and c["statement"] is None
     for b in s["bounds"].values():
         assert b["statement"] is None and b["multiplier"] is None
     text = format_summary(s)
-    assert "DID NOT CONVERGE" in text and "VIOLATED" in text and "Violated limits: T41 limit missed by" in text
+    assert "DID NOT CONVERGE" in text and "VIOLATED" in text and "Violated limits: " in text and "T41 limit missed by" in text
     assert "would save" not in text and "would cost" not in text and "kg per K" not in text
     assert "not given" in text
     rows = {r["name"] for r in summary_rows(s)}
