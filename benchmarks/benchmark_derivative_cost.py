@@ -14,7 +14,7 @@ from benchmarks import (
     use_approx_partials,
 )
 from bypassopt.problems.best_cycle import apply_scenario, build_installed_model
-from bypassopt.scenario import load_scenario
+from bypassopt.scenario import design_point_scenario, load_scenario
 
 #: Totals timed: the objective, installed TSFC and every constraint of the best-cycle problem ...
 OF = ("mission_fuel", "installed_TSFC", "clearance_margin", "diameter_margin", "Tt41", "Tt3", "W3_corrected")
@@ -37,9 +37,11 @@ def build_derivative_problem(partials="analytic", scenario=None):
         ``setup``, before ``final_setup``; FD with ``benchmarks.FD_OPTIONS``). The Newton solver of the
         engine then also linearizes with these partials.
     scenario : dict or None
-        Validated scenario; None gives the demo.
+        Validated scenario; None gives the demo with the design-point engine model.
     """
-    scenario = scenario or load_scenario()
+    # the design-point model: its partials can all be switched to FD/CS (the multipoint model's off-design
+    # matches are implicit components, which use_approx_partials does not switch)
+    scenario = scenario or design_point_scenario(load_scenario())
     prob = om.Problem(build_installed_model(scenario), reports=False)
     prob.setup(force_alloc_complex=True)
     switched = use_approx_partials(prob, partials, **FD_OPTIONS) if partials != "analytic" else 0

@@ -36,6 +36,12 @@ SEED = 20250611
 CS_STEP = 1.0e-40
 
 #: Option variants that change a component's equations (the default options are always checked too).
+#: Options in place of the defaults for components whose default options give them no variable to check.
+DEFAULT_OPTIONS = {
+    "FlightNodeBroadcastComp": ("two quantities", {"quantities": {"area8_design": (0.2, "m**2", "core nozzle area"),
+                                                                  "W2_design": (200.0, "kg/s", "inlet flow")}}),
+}
+
 VARIANTS = {
     "FlightConditionComp": [("calorically perfect gas", {"gas": CaloricallyPerfectGas()})],
     "InletComp": [("calorically perfect gas", {"gas": CaloricallyPerfectGas()})],
@@ -326,7 +332,7 @@ def run(quick=False):
     import_errors = {k: v for k, v in classes.items() if k.startswith("import error")}
     components = {}
     for name, cls in sorted((k, v) for k, v in classes.items() if not k.startswith("import error")):
-        for label, options in [("defaults", {})] + VARIANTS.get(name, []):
+        for label, options in [DEFAULT_OPTIONS.get(name, ("defaults", {}))] + VARIANTS.get(name, []):
             components[f"{name} ({label})"] = check_component(cls, options, base, num_points, rng)
     assembled = {
         "TurbofanCycleGroup totals": check_assembled("cycle", max(num_points, 3), rng),

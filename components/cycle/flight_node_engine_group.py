@@ -169,11 +169,11 @@ class FlightNodeBroadcastComp(om.ExplicitComponent):
             self.add_output(f"{name}_nodes", val=val * np.ones(nfn), units=units, desc=f"{desc}, at every node")
 
     def setup_partials(self):
-        """Declare the constant partials: one column of ones per quantity."""
+        """Declare the sparse partials: one column per quantity (values set in compute_partials)."""
         nfn = self.options["num_flight_nodes"]
         ar, zero = np.arange(nfn), np.zeros(nfn, dtype=int)
         for name in self.options["quantities"]:
-            self.declare_partials(f"{name}_nodes", name, rows=ar, cols=zero, val=1.0)
+            self.declare_partials(f"{name}_nodes", name, rows=ar, cols=zero)
 
     def compute(self, inputs, outputs):
         """Copy each value to every node."""
@@ -181,6 +181,12 @@ class FlightNodeBroadcastComp(om.ExplicitComponent):
         for name, (_, units, _) in self.options["quantities"].items():
             check_range(name, inputs[name], units=units or "", where=self.pathname)
             outputs[f"{name}_nodes"] = inputs[name] * np.ones(nfn)
+
+    def compute_partials(self, inputs, partials):
+        """d(value at node i)/d(value) = 1 (assigned here, not declared constant, so check_partials sees them)."""
+        ones = np.ones(self.options["num_flight_nodes"])
+        for name in self.options["quantities"]:
+            partials[f"{name}_nodes", name] = ones
 
 
 class FlightNodeEngineGroup(om.Group):
