@@ -1,5 +1,9 @@
 """pyOptSparse through ``om.pyOptSparseDriver``: IPOPT and SLSQP on the demo, back-off, multipliers, recorders, CLI.
 
+The driver machinery is tested on the demo with the design-point engine model and T4 held at 1650 K
+(``DESIGN_POINT_DEMO``; a multipoint evaluation costs about 7 times a design-point one); one IPOPT run optimises the
+demo's own multipoint model (``test_ipopt_on_the_multipoint_demo_meets_kkt``).
+
 pyoptsparse is not on PyPI. Without it (or without cyipopt for IPOPT) these tests skip, with the reason; with
 ``BYPASSOPT_REQUIRE_PYOPTSPARSE=1`` in the environment (CI's pyOptSparse environment, see ``.ci/run``) they
 fail instead, so they can never pass there by being skipped. The reference for every optimum is SciPy's SLSQP
@@ -23,6 +27,7 @@ from bypassopt.problems.drivers import make_driver
 from bypassopt.problems.kkt import kkt_analysis
 from bypassopt.problems.optimizer_multipliers import optimizer_multipliers
 from bypassopt.report import optimum_summary
+from bypassopt.scenario import design_point_scenario, load_scenario, validate
 
 #: The pyOptSparse drivers of ``make_driver`` tested here, with the pyOptSparse optimizer each needs.
 DRIVERS = {"IPOPT": "IPOPT", "pyoptsparse-SLSQP": "SLSQP"}
@@ -31,11 +36,16 @@ FUEL_RTOL = 1.0e-4
 DESIGN_RTOL = 1.0e-4
 #: IPOPT's own multipliers vs the least-squares KKT multipliers of ``kkt_analysis``.
 MULTIPLIER_RTOL = 0.01
-#: A demo start at the edge of the region the model cannot evaluate (high BPR with high FPR leaves the core
-#: nozzle no pressure ratio): from here IPOPT's first steps cross into it (found by bisection on FPR at
-#: BPR 13, OPR 55: the wall is at FPR 1.555).
-EDGE_START = {"BPR": 13.0, "FPR": 1.55, "OPR": 55.0}
-#: A demo start inside that region: the model raises at the start itself.
+#: The demo with the design-point engine model and T4 held at 1650 K: the machinery under test here is the
+#: driver's, not the engine model's.
+DESIGN_POINT_DEMO = validate({"design_variables": {"Tt4_K": {"initial": 1650.0, "lower": 1400.0, "upper": 1850.0,
+                                                              "optimize": False}}},
+                             base=design_point_scenario(load_scenario()))
+#: A start near the edge of the region the design-point demo cannot evaluate (high BPR with high FPR leaves the
+#: core nozzle no pressure ratio): from here IPOPT's first steps cross into it (the wall, found by bisection on
+#: FPR at BPR 15, OPR 50, is at FPR 1.483; from FPR 1.42-1.45 IPOPT made 3 failed evaluations, measured).
+EDGE_START = {"BPR": 15.0, "FPR": 1.45, "OPR": 50.0}
+#: A start inside that region: the model raises at the start itself.
 INSIDE_START = {"BPR": 14.0, "FPR": 1.75, "OPR": 40.0}
 HAVE_MATPLOTLIB = importlib.util.find_spec("matplotlib") is not None
 CLI_TIMEOUT_S = 300
@@ -43,7 +53,7 @@ CLI_TIMEOUT_S = 300
 
 @dataclass
 class Run:
-    """One optimisation of the demo best-cycle problem and what was read from it before ``prob.cleanup()``."""
+    """One optimisation of a best-cycle problem and what was read from it before ``prob.cleanup()``."""
 
     driver: str
     success: bool
@@ -73,8 +83,8 @@ def _count_failures(prob):
     return failures
 
 
-def _optimize(driver, recorder=None, start=None):
-    prob, settings = build_best_cycle_problem(driver=driver, recorder_path=recorder, reports=False)
+def _optimize(driver, recorder=None, start=None, scenario=DESIGN_POINT_DEMO):
+    prob, settings = build_best_cycle_problem(scenario, driver=driver, recorder_path=recorder, reports=False)
     failures = _count_failures(prob)
     for name, value in (start or {}).items():
         prob.set_val(name, value)
@@ -101,7 +111,7 @@ def workdir(tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def optimum(workdir):
-    """``optimum(driver)``: the demo optimised (and recorded) with that driver, run once per module."""
+    """``optimum(driver)``: the design-point demo optimised (and recorded) with that driver, once per module."""
     runs = {}
 
     def get(driver):
@@ -121,7 +131,8 @@ def _assert_same_optimum(run, ref):
 
 @pytest.mark.parametrize("driver", list(DRIVERS))
 def test_demo_optimum_equals_scipy_slsqp(driver, optimum, require_pyoptsparse):
-    """IPOPT and pyOptSparse's SLSQP reach SciPy SLSQP's optimum; the summaries agree (active limits, prices)."""
+    """IPOPT and pyOptSparse's SLSQP reach SciPy SLSQP's optimum of the design-point demo; the summaries agree
+    (active limits, prices)."""
     require_pyoptsparse(DRIVERS[driver])
     ref, run = optimum("SLSQP"), optimum(driver)
     assert ref.success
@@ -256,7 +267,7 @@ def test_an_optimum_beyond_the_wall_is_approached_and_never_a_false_success(driv
 
 
 def test_ipopt_backs_off_from_the_region_the_model_cannot_evaluate(optimum, workdir, require_pyoptsparse):
-    """From a demo start at the edge of the unevaluable region IPOPT steps into it, backs off, and converges.
+    """From a start at the edge of the unevaluable region IPOPT steps into it, backs off, and converges.
 
     The steps that cross are reported failed (counted on the model's solve); the optimum is SciPy SLSQP's.
     """
@@ -280,7 +291,7 @@ def test_plain_ipopt_cannot_start_inside_the_unevaluable_region(workdir, require
     """Without a fallback design, a start the model cannot evaluate gives IPOPT no number to begin from: the run
     fails (IPOPT's 'Invalid Number Detected', -13), never a false optimum."""
     require_pyoptsparse("IPOPT")
-    prob, _ = build_best_cycle_problem(driver="IPOPT", reports=False)
+    prob, _ = build_best_cycle_problem(DESIGN_POINT_DEMO, driver="IPOPT", reports=False)
     prob.driver.options["fallback_design"] = None
     for name, value in INSIDE_START.items():
         prob.set_val(name, value)
@@ -294,10 +305,15 @@ def _bypassopt(*args, cwd):
                           text=True, timeout=CLI_TIMEOUT_S)
 
 
-#: The demo with a coarse carpet (the carpet around the optimum is drawn for carpet.png) and a chosen driver.
+#: The design-point demo with T4 held (as ``DESIGN_POINT_DEMO``), a coarse carpet (the carpet around the optimum is
+#: drawn for carpet.png) and a chosen driver.
 CLI_SCENARIO = """\
 [optimizer]
 driver = "{driver}"
+model = "design_point"
+
+[design_variables]
+Tt4_K = {{ initial = 1650.0, lower = 1400.0, upper = 1850.0, optimize = false }}
 
 [carpet]
 BPR_values = [8.0, 10.0, 12.0]
@@ -311,7 +327,9 @@ def test_cli_optimize_with_ipopt_and_pyoptsparse_slsqp(how, optimum, require_pyo
     """``bypassopt optimize`` with ``[optimizer] driver = "IPOPT"`` and with ``--driver pyoptsparse-SLSQP``.
 
     Exit 0; optimum.json holds SciPy SLSQP's optimum, its shadow prices and the driver's name; history.sqlite
-    reads with ``om.CaseReader``; with matplotlib, convergence.png and carpet.png are written.
+    reads with ``om.CaseReader``; with matplotlib, convergence.png and carpet.png are written (IPOPT run only: the
+    carpet around the optimum, about half of the command's time, does not depend on the driver, and the convergence
+    plot of both drivers' recorders is ``test_case_reader_reads_the_pyoptsparse_recorder``).
     """
     driver = "IPOPT" if how == "scenario" else "pyoptsparse-SLSQP"
     require_pyoptsparse(DRIVERS[driver])
@@ -320,7 +338,8 @@ def test_cli_optimize_with_ipopt_and_pyoptsparse_slsqp(how, optimum, require_pyo
     args = ["optimize", "--scenario", "s.toml", "--out", "res", "--json"]
     if how == "option":
         args += ["--driver", driver]
-    if not HAVE_MATPLOTLIB:
+    plots = HAVE_MATPLOTLIB and how == "scenario"
+    if not plots:
         args.append("--no-plots")
     done = _bypassopt(*args, cwd=tmp_path)
     assert done.returncode == 0, done.stderr[-3000:]
@@ -336,7 +355,7 @@ def test_cli_optimize_with_ipopt_and_pyoptsparse_slsqp(how, optimum, require_pyo
                                        rtol=MULTIPLIER_RTOL, err_msg=name)
     cases = om.CaseReader(str(res / "history.sqlite")).get_cases("driver", recurse=False)
     assert cases
-    if HAVE_MATPLOTLIB:
+    if plots:
         for png in ("convergence.png", "carpet.png"):
             assert (res / png).read_bytes()[:8] == b"\x89PNG\r\n\x1a\n", png
 
@@ -346,9 +365,8 @@ def test_trade_curve_runs_with_ipopt(optimum, require_pyoptsparse, workdir):
     the swept nacelle-diameter limit does not bind, and reports the run the same way (message, evaluations)."""
     require_pyoptsparse("IPOPT")
     from bypassopt.problems.trade_curve import run_trade_curve
-    from bypassopt.scenario import load_scenario, validate
 
-    scenario = validate({"optimizer": {"driver": "IPOPT"}}, base=load_scenario())
+    scenario = validate({"optimizer": {"driver": "IPOPT"}}, base=DESIGN_POINT_DEMO)
     result = run_trade_curve(scenario, "max_nacelle_diameter_m", [2.2, 2.4], refine=0)
     assert all(p["success"] for p in result["points"])
     slack = result["points"][-1]
@@ -358,13 +376,38 @@ def test_trade_curve_runs_with_ipopt(optimum, require_pyoptsparse, workdir):
 
 def test_embedding_problem_runs_with_ipopt(require_pyoptsparse, workdir):
     """The aircraft-level embedding problem (engine inside an aircraft sizing loop) optimises with IPOPT to the
-    same mission fuel as with SciPy SLSQP, within the optimizers' tolerances."""
+    same mission fuel as with SciPy SLSQP, within the optimizers' tolerances (design-point demo)."""
     require_pyoptsparse("IPOPT")
     from bypassopt.problems.aircraft_embedding import build_embedding_problem
 
     fuels = {}
     for driver in ("SLSQP", "IPOPT"):
-        prob = build_embedding_problem(optimize=True, driver=driver, reports=False)
+        prob = build_embedding_problem(optimize=True, scenario=DESIGN_POINT_DEMO, driver=driver, reports=False)
         assert prob.run_driver().success, driver
         fuels[driver] = float(prob.get_val("mission_fuel", units="kg")[0])
     np.testing.assert_allclose(fuels["IPOPT"], fuels["SLSQP"], rtol=FUEL_RTOL)
+
+
+def test_ipopt_on_the_multipoint_demo_meets_kkt(workdir, require_pyoptsparse):
+    """The one multipoint run: IPOPT on the demo's own model (top of climb, hot-day take-off, mid-cruise; T4 free)
+    converges to a KKT point (``kkt_analysis``: projected gradient, non-negative multipliers; Nocedal and Wright,
+    thm 12.1) with the take-off T41 and T3 limits among its constraints and every limit met; IPOPT's own
+    multipliers equal the KKT ones as in ``test_ipopt_multipliers_equal_kkt_shadow_prices``."""
+    require_pyoptsparse("IPOPT")
+    scenario = load_scenario()
+    run = _optimize("IPOPT", scenario=scenario)
+    assert run.success, run.inform
+    assert {"takeoff:Tt41", "takeoff:Tt3"} <= set(run.kkt["constraints"])
+    assert set(run.design) == {"BPR", "FPR", "OPR", "Tt4"}
+    assert run.kkt["projected_gradient"] < 1e-3 and run.kkt["dual_feasible"]
+    assert not any(c["violated"] for c in run.kkt["constraints"].values())
+    active = [name for name, c in run.kkt["constraints"].items() if c["active"]]
+    assert active  # a constrained optimum, so the multipliers are tested
+    largest = max(abs(c["shadow_price"]) for c in run.kkt["constraints"].values())
+    for name, c in run.kkt["constraints"].items():
+        own = run.own_prices[name]
+        if c["active"]:
+            assert c["multiplier"] > 0.0
+            np.testing.assert_allclose(own["multiplier"], c["multiplier"], rtol=MULTIPLIER_RTOL, err_msg=name)
+        else:
+            assert abs(own["shadow_price"]) < 1e-6 * largest, name
