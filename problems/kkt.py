@@ -125,7 +125,8 @@ def model_units(prob, name):
     """Units of a promoted variable (output or input) as the model computes it."""
     meta = prob.model.get_io_metadata(metadata_keys=["units"], includes=[name], return_rel_names=False)
     for path, m in meta.items():
-        if path.split(".")[-1] == name.split(".")[-1]:
+        # a plain promoted name ends the path; a renamed one (``cruise:installed_TSFC``) is its prom_name
+        if m.get("prom_name") == name or path.split(".")[-1] == name.split(".")[-1]:
             return m["units"]
     return None
 

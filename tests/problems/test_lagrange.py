@@ -56,10 +56,6 @@ def _assert_multipliers_agree(prob, settings):
     assert auto["dual_feasible"] and auto["projected_gradient"] < 1e-4
 
 
-@pytest.mark.xfail(HAS_OPENMDAO_MULTIPLIERS, strict=True,
-                   reason="known bug in problems/kkt.py: model_units() does not find a point-prefixed output such as "
-                          "'cruise:installed_TSFC', so OpenMDAO's multiplier is not converted from kg/(N s) to "
-                          "mg/(N s) and comes out 1e6 too small (measured 1.8e-6 against 1.8)")
 def test_multipoint_cruise_objective_multipliers_match_least_squares():
     """The demo's multipoint model with the installed TSFC objective, which it takes at the cruise point
     (``cruise:installed_TSFC``, the only objective with a point prefix): the same agreement as above. One
