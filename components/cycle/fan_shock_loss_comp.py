@@ -24,6 +24,8 @@ def normal_shock_entropy(m, gamma=GAMMA_AIR):
         \frac{p_{t2}}{p_{t1}} = \left[\frac{(\gamma+1)m}{(\gamma-1)m + 2}\right]^{\gamma/(\gamma-1)}
                                 \left[\frac{\gamma+1}{2\gamma m - (\gamma-1)}\right]^{1/(\gamma-1)}
 
+    The values agree to the 4 printed figures with the normal-shock table of J. D. Anderson, *Fundamentals of
+    Aerodynamics*, Table A.2 (gamma 1.4, M 1.04-1.34 checked by the tests; e.g. 0.9928 at M = 1.2, 0.9794 at 1.3).
     Returns (value, d value / d m); zero (and zero slope) at m = 1. Valid for m >= 1.
     """
     a, b = gamma / (gamma - 1.0), 1.0 / (gamma - 1.0)

@@ -16,10 +16,18 @@ PARTIALS_TOL = 1e-10
 SEED = 1961
 GAMMA = 1.4
 
-#: Normal-shock total-pressure ratios pt2/pt1 for gamma 1.4 (NACA Report 1135, Ames Research Staff 1953,
-#: normal-shock table; from memory, printed to 4 figures).
-NACA_1135 = {1.2: 0.9928, 1.3: 0.9794, 1.5: 0.9298, 2.0: 0.7209}
-
+#: Normal-shock properties for gamma 1.4 as printed (4 figures) in J. D. Anderson, *Fundamentals of Aerodynamics*,
+#: appendix Table A.2 "Normal shock properties" (read from a transcription of the table; the table evaluates the
+#: NACA Report 1135 normal-shock relations): upstream Mach number -> (pt2/pt1, p2/p1, downstream Mach number).
+#: The rows cover the tip relative Mach numbers of civil fans (1.0-1.4).
+NORMAL_SHOCK_TABLE = {
+    1.04: (0.9999, 1.095, 0.9620), 1.06: (0.9998, 1.144, 0.9444), 1.08: (0.9994, 1.194, 0.9277),
+    1.10: (0.9989, 1.245, 0.9118), 1.12: (0.9982, 1.297, 0.8966), 1.16: (0.9961, 1.403, 0.8682),
+    1.20: (0.9928, 1.513, 0.8422), 1.24: (0.9884, 1.627, 0.8183), 1.28: (0.9827, 1.745, 0.7963),
+    1.30: (0.9794, 1.805, 0.7860), 1.34: (0.9718, 1.928, 0.7664),
+}
+#: Half a unit of the last printed figure.
+TABLE_PT_ABS, TABLE_P_ABS, TABLE_M_ABS = 5e-5, 5e-4, 5e-5
 
 def shock_pt_ratio(mach, gamma=GAMMA):
     """pt2/pt1 across a normal shock from the static-pressure jump and the downstream Mach number.
@@ -54,12 +62,30 @@ def _problem(nn=1, shock_effect=True, **values):
     return prob
 
 
-@pytest.mark.parametrize("mach, table", NACA_1135.items())
-def test_normal_shock_against_naca_1135(mach, table):
-    """exp(-entropy rise / R) is the NACA Report 1135 total-pressure ratio (its 4 printed figures) and the
-    Rankine-Hugoniot form written here (to 1e-12)."""
+def shock_static_jump_and_downstream_mach(mach, gamma=GAMMA):
+    """p2/p1 and the downstream Mach number of a normal shock (Rankine-Hugoniot, as in ``shock_pt_ratio``)."""
+    m2 = mach**2
+    return (1.0 + 2.0 * gamma * (m2 - 1.0) / (gamma + 1.0),
+            np.sqrt((1.0 + 0.5 * (gamma - 1.0) * m2) / (gamma * m2 - 0.5 * (gamma - 1.0))))
+
+
+@pytest.mark.parametrize("mach, row", NORMAL_SHOCK_TABLE.items())
+def test_normal_shock_against_published_table(mach, row):
+    """exp(-entropy rise / R) is the tabulated total-pressure ratio (Anderson, Table A.2, its 4 printed figures), and
+    the Rankine-Hugoniot form written in this test reproduces the table's p2/p1 and downstream Mach number too."""
+    pt_ratio, p_jump, mach_down = row
     g, _ = normal_shock_entropy(mach**2)
-    assert np.exp(-g) == pytest.approx(table, abs=5e-5)
+    assert np.exp(-g) == pytest.approx(pt_ratio, abs=TABLE_PT_ABS)
+    jump, down = shock_static_jump_and_downstream_mach(mach)
+    assert jump == pytest.approx(p_jump, abs=TABLE_P_ABS)
+    assert down == pytest.approx(mach_down, abs=TABLE_M_ABS)
+
+
+@pytest.mark.parametrize("mach", [1.02, 1.25, 1.5, 1.8, 2.0])
+def test_normal_shock_against_rankine_hugoniot(mach):
+    """Over the whole valid range (tip Mach up to 2) the component's closed form equals the total-pressure ratio
+    built here from the static-pressure jump and the downstream Mach number (to 1e-12)."""
+    g, _ = normal_shock_entropy(mach**2)
     assert np.exp(-g) == pytest.approx(shock_pt_ratio(mach), rel=EXACT_RTOL)
 
 
