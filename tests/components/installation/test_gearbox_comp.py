@@ -5,12 +5,20 @@ import openmdao.api as om
 import pytest
 from openmdao.utils.assert_utils import assert_check_partials
 
+from bypassopt.components.defaults import GEARBOX_DEFAULTS
 from bypassopt.components.installation.gearbox_comp import GearboxComp
 from bypassopt.components.validation import InputRangeError
 
 EXACT_RTOL = 1e-12
 PARTIALS_TOL = 1e-10
 SEED = 2718
+
+#: Published gearbox efficiency band: "98 % to 99 % for the best designed high power applications" (Stavytskyy et
+#: al., Teka Kom. Mot. i Energ. Roln. OL PAN 10B, 2010, review of gear power losses).
+PUBLISHED_EFFICIENCY_BAND = (0.98, 0.99)
+#: Heat a fan drive gear's lubrication system is claimed to remove: "less than about 2 % of power input into the gear
+#: system" (US patent 11,125,167, claims).
+PUBLISHED_MAX_HEAT_FRACTION = 0.02
 
 GEARED = {"LP_mech_eff_ref": 0.99, "gearbox_eff": 0.99, "BPR": 11.0, "fan_bypass_work": 3.8e4, "fan_core_work": 3.9e4,
           "booster_work": 6.1e4, "W2": 206.0, "fan_shaft_speed": 3555.0}
@@ -48,6 +56,26 @@ def test_energy_balance_of_the_geared_spool():
     assert prob.get_val("gearbox_heat")[0] == pytest.approx(p_fan / v["gearbox_eff"] - p_fan, rel=EXACT_RTOL)
     omega = v["fan_shaft_speed"] * 2.0 * np.pi / 60.0
     assert prob.get_val("fan_shaft_torque", units="N*m")[0] == pytest.approx(p_fan / omega, rel=EXACT_RTOL)
+
+
+@pytest.mark.parametrize("gearbox_eff", PUBLISHED_EFFICIENCY_BAND)
+def test_heat_is_the_published_fraction_of_the_gearbox_input(gearbox_eff):
+    """The gearbox heat is 1 - eta of the power into the gearbox (the LP turbine side), so across the published
+    efficiency band 0.98-0.99 (Stavytskyy et al. 2010) it is 1-2 % of the input, at most the ~2 % the patented fan
+    drive gear's oil system is sized for (US 11,125,167). A heat taken as (1 - eta) of the fan-side power would
+    fail the first check."""
+    prob = _problem(**{**GEARED, "gearbox_eff": gearbox_eff})
+    prob.run_model()
+    heat = prob.get_val("gearbox_heat", units="W")[0]
+    gearbox_input = prob.get_val("fan_shaft_power", units="W")[0] + heat
+    assert heat / gearbox_input == pytest.approx(1.0 - gearbox_eff, rel=EXACT_RTOL)
+    assert heat / gearbox_input <= PUBLISHED_MAX_HEAT_FRACTION + EXACT_RTOL
+
+
+def test_default_efficiency_inside_the_published_band():
+    """The default gearbox efficiency (components/defaults.py) lies in the published 0.98-0.99 band (its top)."""
+    lo, hi = PUBLISHED_EFFICIENCY_BAND
+    assert lo <= GEARBOX_DEFAULTS["gearbox_eff"][0] <= hi
 
 
 def test_gearbox_loss_is_about_its_inefficiency_times_the_fan_share():
