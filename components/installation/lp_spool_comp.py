@@ -8,9 +8,12 @@ from bypassopt.components.options import declare_gas, declare_num_nodes
 from bypassopt.components.ranges import range_kwargs
 from bypassopt.components.validation import check_range, check_validity
 
-#: Soderberg's nominal blade-row loss coefficient and its deflection term (Soderberg 1949, as given by Dixon
-#: and Hall, *Fluid Mechanics and Thermodynamics of Turbomachinery*, axial-turbine chapter; from memory):
-#: zeta = 0.04 (1 + 1.5 (epsilon/100 deg)^2), for Reynolds number 1e5, aspect ratio 3, Zweifel pitch.
+#: Soderberg's nominal blade-row loss coefficient and its deflection term: zeta = 0.04 (1 + 1.5 (epsilon/100 deg)^2).
+#: What was read: S. L. Dixon, *Fluid Mechanics, Thermodynamics of Turbomachinery*, 4th ed., 1998, section
+#: "Soderberg's correlation", pp. 97-98 and Fig. 4.3 (adapted from Horlock 1960): for turbine blade rows at
+#: Zweifel's load coefficient 0.8, Reynolds number 1e5 and aspect ratio (height / axial chord) 3, the nominal
+#: loss coefficient is a function of the fluid deflection alone. The two constants are from memory (the excerpt
+#: read stops before the formula; the same constants appear in public course code).
 SODERBERG_ZETA0 = 0.04
 SODERBERG_DEFLECTION_COEFF = 1.5
 #: Stage design at which ``lpt_eff_poly_ref`` applies: loading dh/U^2 and flow coefficient Vx/U of a typical
@@ -36,8 +39,9 @@ def soderberg_stage_efficiency(loading, flow_coeff):
     .. math:: \eta_{tt} = \left[1 + \frac{\zeta_R w_3^2 + \zeta_N c_2^2}{2\Delta h_0}\right]^{-1}
               = \left[1 + \frac{\zeta\,(\phi^2 + (1+\psi)^2/4)}{\psi}\right]^{-1}
 
-    (Soderberg 1949 as given by Dixon and Hall, *Fluid Mechanics and Thermodynamics of Turbomachinery*;
-    from memory). Returns (eta, d eta/d psi, d eta/d phi).
+    (Soderberg's correlation as given by Dixon, *Fluid Mechanics, Thermodynamics of Turbomachinery*, 4th ed.,
+    pp. 97-98: its conditions read there, the constants 0.04 and 1.5 from memory; the stage relation is the
+    textbook velocity-triangle algebra). Returns (eta, d eta/d psi, d eta/d phi).
     """
     half = 0.5 * (1.0 + loading)
     t2, t3 = half / flow_coeff, 0.5 * (1.0 - loading) / flow_coeff

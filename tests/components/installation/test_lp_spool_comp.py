@@ -45,7 +45,8 @@ def soderberg_by_triangles(loading, flow_coeff):
 
     Stator exit swirl c_theta2 = (1 + psi)/2 and stage exit swirl c_theta3 = c_theta2 - psi (Euler: dh = U dc_theta);
     relative swirls w = c - U. Deflections from the flow angles; Soderberg loss zeta = 0.04 (1 + 1.5 (eps/100)^2)
-    (Soderberg 1949 via Dixon and Hall, from memory); eta_tt = dh / (dh + zeta_N c2^2/2 + zeta_R w3^2/2).
+    (Dixon, 4th ed., pp. 97-98: conditions read, constants from memory);
+    eta_tt = dh / (dh + zeta_N c2^2/2 + zeta_R w3^2/2).
     Returns (eta, stator deflection, rotor deflection, reaction).
     """
     cx = flow_coeff
