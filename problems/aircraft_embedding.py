@@ -6,6 +6,7 @@ import openmdao.api as om
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.components.installation.installed_engine_group import InstalledEngineGroup
 from bypassopt.components.installation.installed_multipoint_group import InstalledMultipointGroup
+from bypassopt.components.interface import ALL_PLAIN
 from bypassopt.problems.best_cycle import GEOMETRY_CONSTRAINTS, OBJECTIVES, OPENMDAO_DEFAULT, limit_scaling
 from bypassopt.problems.drivers import make_driver
 from bypassopt.scenario import DESIGN_VARIABLES, constraint_limits, is_multipoint, load_scenario, model_inputs
@@ -286,7 +287,7 @@ class AircraftSizingGroup(om.Group):
         outputs = list(ENGINE_OUTPUTS) + (list(MULTIPOINT_OUTPUTS) if multipoint else [])
         # Engine first: with the outputs' starting values (24 kN, L/D 17.5, 38.5 t) it starts from a
         # sensible aircraft; the Newton solver then closes the loop.
-        self.add_subsystem("engine", cls(num_nodes=nn, gas=self.options["gas"], num_engines=n_eng),
+        self.add_subsystem("engine", cls(num_nodes=nn, gas=self.options["gas"], num_engines=n_eng, **ALL_PLAIN),
                            promotes_inputs=list(ENGINE_INPUTS), promotes_outputs=outputs)
         self.add_subsystem("wing", WingSizingComp(num_nodes=nn), promotes=["*"])
         self.add_subsystem("polar", AirframeDragComp(num_nodes=nn, num_engines=n_eng), promotes=["*"])

@@ -7,6 +7,7 @@ import openmdao.api as om
 from bypassopt.components.gas.thermo import ThermallyPerfectGas
 from bypassopt.components.installation.installed_engine_group import InstalledEngineGroup
 from bypassopt.components.installation.installed_multipoint_group import InstalledMultipointGroup
+from bypassopt.components.interface import ALL_PLAIN
 from bypassopt.problems.drivers import make_driver
 from bypassopt.scenario import (DESIGN_VARIABLES, ScenarioError, constraint_limits, is_multipoint, load_scenario,
                                 model_inputs)
@@ -118,11 +119,11 @@ def build_installed_model(scenario, num_nodes=1):
     """Return the scenario's engine model, configured for its number of engines and fuel.
 
     ``InstalledMultipointGroup`` for ``[optimizer] model = "multipoint"``, ``InstalledEngineGroup`` for
-    ``"design_point"``.
+    ``"design_point"``, every variable promoted under its plain name (``expose='all', name_prefix=''``).
     """
     cls = InstalledMultipointGroup if is_multipoint(scenario) else InstalledEngineGroup
     return cls(num_nodes=num_nodes, gas=gas_for(scenario), num_engines=scenario["aircraft"]["num_engines"],
-               gearbox=bool(scenario["engine"].get("gearbox", False)))
+               gearbox=bool(scenario["engine"].get("gearbox", False)), **ALL_PLAIN)
 
 
 def build_evaluation_problem(scenario=None, num_nodes=1, design=None, reports=OPENMDAO_DEFAULT,

@@ -1,7 +1,6 @@
 """Installed engine: cycle sized to the airframe's thrust plus its own nacelle drag, mass, clearance, mission fuel."""
 
 import numpy as np
-import openmdao.api as om
 
 from bypassopt.components.coupled_solver import COUPLED_SOLVERS, last_solve_succeeded, set_coupled_solvers
 from bypassopt.components.cycle.core_size_efficiency_comp import CoreSizeEfficiencyComp
@@ -9,6 +8,7 @@ from bypassopt.components.cycle.cycle_group import TurbofanCycleGroup
 from bypassopt.components.cycle.fan_shock_loss_comp import FanShockLossComp
 from bypassopt.components.cycle.multipoint_group import COOLING_INPUTS
 from bypassopt.components.defaults import GEARBOX_DEFAULTS, INPUT_DEFAULTS
+from bypassopt.components.interface import InterfaceGroup
 from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
@@ -28,8 +28,17 @@ NACELLE_DRAG_FRACTION_GUESS = 0.05
 #: high (a high W2 only lowers the HP offtake per unit flow and keeps the first pass computable).
 FN_SPECIFIC_GUESS = 100.0
 
+#: Outputs a user reads, promoted with the interface (``InterfaceGroup``): the design point's performance,
+#: installation, mass and limits.
+INTERFACE_OUTPUTS = ("Fn_required", "TSFC", "fuel_flow", "W2", "Tt3", "Tt41", "W3_corrected", "V0", "q0",
+                     "installed_TSFC", "installed_thrust", "nacelle_drag", "fan_tip_diameter",
+                     "nacelle_max_diameter", "clearance_margin", "diameter_margin", "engine_dry_mass",
+                     "powerplant_mass")
+#: Outputs of the Breguet mission (``include_mission=True``).
+MISSION_OUTPUTS = ("mission_fuel", "cruise_fuel", "reserve_fuel", "zero_fuel_mass", "takeoff_mass", "mtow_margin")
 
-class InstalledEngineGroup(om.Group):
+
+class InstalledEngineGroup(InterfaceGroup):
     """Turbofan cycle, fan sizing, nacelle geometry and drag, mass, ground clearance and mission fuel.
 
     The engine must deliver the airframe's thrust requirement plus its own nacelle drag, and that
@@ -37,6 +46,13 @@ class InstalledEngineGroup(om.Group):
     This loop (and the HP-offtake loop of the cycle) is solved by a Newton solver with a direct
     linear solver, so total derivatives are taken through the converged system
     (``coupled_solver='gauss_seidel'`` swaps in block Gauss-Seidel for very large vectorized sweeps).
+
+    **Promotion** (``InterfaceGroup``): by default only the interface is promoted, each name with the prefix
+    ``name_prefix`` (``'engine:'``): every input the group does not compute itself (``engine:BPR``,
+    ``engine:altitude``, ...) and the outputs in ``INTERFACE_OUTPUTS`` (and ``MISSION_OUTPUTS``), so a model that
+    promotes ``*`` keeps its own ``altitude``, ``thrust`` and ``fuel_flow``; every station stays reachable by its
+    path (``engine.model.Tt3``). ``expose='all', name_prefix=''`` promotes every variable under the plain names
+    below (the project's own problems build it so).
 
     Promoted inputs a user connects: flight condition (``altitude``, ``dT_isa``, ``Mach0``), the cycle
     choices (``BPR``, ``FPR``, ``OPR``, ``Tt4``), ``thrust_required`` (N per engine, before nacelle
@@ -74,6 +90,7 @@ class InstalledEngineGroup(om.Group):
 
     def initialize(self):
         """Declare options."""
+        super().initialize()
         declare_num_nodes(self.options)
         declare_gas(self.options)
         self.options.declare("cooling_model", default="correlation", values=("given", "correlation"),
@@ -97,7 +114,11 @@ class InstalledEngineGroup(om.Group):
                              desc="a fan reduction gearbox between the LP turbine and the fan (inputs "
                                   "gear_ratio, gearbox_eff)")
 
-    def setup(self):
+    def interface_outputs(self):
+        """Return the documented outputs (``INTERFACE_OUTPUTS``, and ``MISSION_OUTPUTS`` with the mission)."""
+        return INTERFACE_OUTPUTS + (MISSION_OUTPUTS if self.options["include_mission"] else ())
+
+    def build(self):
         """Assemble and configure the coupled solve."""
         nn = self.options["num_nodes"]
         gas = self.options["gas"]
@@ -138,7 +159,7 @@ class InstalledEngineGroup(om.Group):
 
         set_coupled_solvers(self, self.options["coupled_solver"], nn)
 
-    def guess_nonlinear(self, inputs, outputs, residuals):
+    def guess(self, inputs, outputs, residuals):
         """Start the coupled unknowns from a physics guess unless the last solve converged.
 
         The loop's feedback unknowns are ``Fn_required`` (read by the cycle's sizing before the nacelle drag

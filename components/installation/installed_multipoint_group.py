@@ -9,11 +9,12 @@ from bypassopt.components.cycle.flow_capacity_comp import FlowCapacityComp
 from bypassopt.components.cycle.multipoint_group import COOLING_INPUTS, SHARED_INPUTS
 from bypassopt.components.cycle.off_design_group import GEOMETRY, OffDesignGroup
 from bypassopt.components.defaults import INPUT_DEFAULTS
+from bypassopt.components.interface import ALL_PLAIN, InterfaceGroup
 from bypassopt.components.mission.cruise_thrust_comp import CruiseThrustComp
 from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
-from .installed_engine_group import InstalledEngineGroup
+from .installed_engine_group import INTERFACE_OUTPUTS, MISSION_OUTPUTS, InstalledEngineGroup
 from .installed_performance_comp import InstalledPerformanceComp
 from .nacelle_drag_comp import _INPUTS as DRAG_INPUTS
 from .nacelle_drag_comp import NacelleDragComp
@@ -38,6 +39,9 @@ CRUISE_INSTALLED_OUTPUTS = ("nacelle_drag", "installed_thrust", "installed_TSFC"
 JET_INPUTS = {"V18_jet": "V18_full", "rho18_jet": "rho18_full", "Ts18_jet": "Ts18_full", "Mach18_jet": "Mach18_full",
               "V8_jet": "V8_full", "rho8_jet": "rho8_full", "Ts8_jet": "Ts8_full", "Mach8_jet": "Mach8_full"}
 
+#: Cooling fractions sized at take-off: ``CoolingBleedComp`` output suffix -> cycle input they set at every point.
+COOLING_FRACS = (("vane", "hpt_vane_cooling_frac"), ("rotor", "hpt_rotor_cooling_frac"))
+
 #: Start value of the cruise thrust (first solve, or after a failed one) as a fraction of the top-of-climb thrust
 #: requirement: cruise needs less thrust than the end of climb (common practice; about 0.8 on the demo).
 CRUISE_THRUST_GUESS = 0.85
@@ -49,7 +53,7 @@ OUTER_MAXITER = 15
 OUTER_SUB_SOLVES = 0
 
 
-class InstalledMultipointGroup(om.Group):
+class InstalledMultipointGroup(InterfaceGroup):
     r"""One installed engine per node: designed at top of climb, checked at take-off, flown at mid-cruise.
 
     **Design point** (subsystem ``design``, names without prefix): ``InstalledEngineGroup`` without its
@@ -85,6 +89,10 @@ class InstalledMultipointGroup(om.Group):
     re-converging every point's own solver inside each iteration (``max_sub_solves``), so total derivatives
     are taken through every point.
 
+    **Promotion** (``InterfaceGroup``, as ``InstalledEngineGroup``): by default the free inputs and the documented
+    outputs (``interface_outputs``) under the prefix ``'engine:'`` (``engine:takeoff:Tt41``); every station by its
+    path (``engine.model.takeoff.Pt3``). ``expose='all', name_prefix=''`` gives the plain names used above.
+
     Nodes are independent engine designs (``num_nodes``); the points are flight conditions of one engine.
     Raises ``om.AnalysisError`` where a point cannot be matched (naming the point and cause, from
     ``OffDesignGroup`` and the elements' range checks).
@@ -92,13 +100,20 @@ class InstalledMultipointGroup(om.Group):
 
     def initialize(self):
         """Declare options."""
+        super().initialize()
         declare_num_nodes(self.options)
         declare_gas(self.options)
         self.options.declare("num_engines", types=int, default=2, desc="engines on the aircraft")
         self.options.declare("gearbox", types=bool, default=False,
                              desc="fan reduction gearbox between LP turbine and fan (InstalledEngineGroup)")
 
-    def setup(self):
+    def interface_outputs(self):
+        """Return the documented outputs: the design point's, each point's, the cruise installation's, the mission's."""
+        points = tuple(f"{p}:{k}" for p in (TAKEOFF, CRUISE) for k in POINT_OUTPUTS)
+        cruise = tuple(f"{CRUISE}:{k}" for k in CRUISE_INSTALLED_OUTPUTS + ("thrust_required", "mid_cruise_mass"))
+        return INTERFACE_OUTPUTS + MISSION_OUTPUTS + points + cruise
+
+    def build(self):
         """Assemble the points, the cooling sizing, the cruise installation and the mission."""
         nn = self.options["num_nodes"]
         gas = self.options["gas"]
@@ -106,7 +121,7 @@ class InstalledMultipointGroup(om.Group):
         ones = np.ones(nn)
 
         design = om.Group()
-        design.add_subsystem("engine", InstalledEngineGroup(num_nodes=nn, gas=gas, include_mission=False,
+        design.add_subsystem("engine", InstalledEngineGroup(num_nodes=nn, gas=gas, include_mission=False, **ALL_PLAIN,
                                                             cooling_model="given", num_engines=n_eng,
                                                             gearbox=self.options["gearbox"]),
                              promotes=["*"])
@@ -126,7 +141,8 @@ class InstalledMultipointGroup(om.Group):
             if point == TAKEOFF:
                 self.add_subsystem("cooling_sizing", CoolingBleedComp(num_nodes=nn, gas=gas,
                                                                       cooling_model="correlation"),
-                                   promotes_inputs=list(COOLING_INPUTS) + ["customer_bleed_frac"])
+                                   promotes_inputs=list(COOLING_INPUTS) + ["customer_bleed_frac"],
+                                   promotes_outputs=[(f"cooling_frac_{f}", target) for f, target in COOLING_FRACS])
                 self.connect("takeoff:Tt3", "cooling_sizing.Tt3")
                 self.connect("takeoff:Tt4", "cooling_sizing.Tt4")
 
@@ -153,9 +169,9 @@ class InstalledMultipointGroup(om.Group):
         for jet_in, cycle_out in JET_INPUTS.items():
             self.connect(f"{CRUISE}.{cycle_out}", f"cruise_drag.{jet_in}")
 
-        for frac, target in (("vane", "hpt_vane_cooling_frac"), ("rotor", "hpt_rotor_cooling_frac")):
-            for t in (target, f"{TAKEOFF}.{target}", f"{CRUISE}.{target}"):
-                self.connect(f"cooling_sizing.cooling_frac_{frac}", t)
+        for _, target in COOLING_FRACS:  # the design point reads them by name
+            for t in (f"{TAKEOFF}.{target}", f"{CRUISE}.{target}"):
+                self.connect(target, t)
 
         for name, (value, units) in INPUT_DEFAULTS.items():
             self.set_input_defaults(name, value * ones, units=units)
@@ -170,7 +186,7 @@ class InstalledMultipointGroup(om.Group):
         newton.options["rtol"] = OUTER_RTOL
         newton.options["max_sub_solves"] = OUTER_SUB_SOLVES
 
-    def guess_nonlinear(self, inputs, outputs, residuals):
+    def guess(self, inputs, outputs, residuals):
         """Start the cruise thrust from ``CRUISE_THRUST_GUESS`` x the design thrust unless the last solve converged.
 
         The cruise point is matched before its thrust is known (the mission that sets it comes after it in the

@@ -35,6 +35,7 @@ from bypassopt.components.installation.lp_spool_comp import LPSpoolComp
 from bypassopt.components.installation.nacelle_drag_comp import NacelleDragComp
 from bypassopt.components.installation.nacelle_geometry_comp import NacelleGeometryComp
 from bypassopt.components.installation.statistical_engine_mass_comp import StatisticalEngineMassComp
+from bypassopt.components.interface import ALL_PLAIN, InterfaceGroup
 from bypassopt.components.mission.cruise_thrust_comp import CruiseThrustComp
 from bypassopt.components.mission.mission_fuel_comp import MissionFuelComp
 from bypassopt.problems.best_cycle import build_best_cycle_problem, build_evaluation_problem
@@ -48,7 +49,7 @@ __all__ = [
     "PerformanceComp", "SizingComp", "SpoolPowerComp", "TurbineComp", "FlowCapacityComp", "OffDesignGroup",
     "MultipointEngineGroup", "InstalledMultipointGroup", "CruiseThrustComp", "FlightNodeEngineGroup",
     "ThrottleRatingComp", "FlightNodeBroadcastComp", "CoreSizeEfficiencyComp", "FanShockLossComp", "GearboxComp",
-    "LPSpoolComp",
+    "LPSpoolComp", "InterfaceGroup", "ALL_PLAIN",
     "CaloricallyPerfectGas",
     "ThermallyPerfectGas", "EngineMassComp", "FanSizingComp", "GroundClearanceComp", "InstalledEngineGroup",
     "InstalledPerformanceComp", "NacelleDragComp", "NacelleGeometryComp", "StatisticalEngineMassComp",

@@ -19,26 +19,37 @@ from bypassopt.scenario import SCHEMA, design_point_scenario, load_scenario, mod
 DESIGN = {"BPR": 10.0, "FPR": 1.55, "OPR": 45.0, "Tt4": 1650.0}
 
 
-@pytest.fixture(scope="module")
-def bare():
-    """README's embedding example: only the flight condition, the thrust and the cycle choices are set."""
+#: Prefix of the groups' promoted interface (their default ``name_prefix``).
+PREFIX = "engine:"
+
+
+def _bare(cls):
+    """README's embedding example: the group with its default (interface) promotion, promoted with ``*``; only the
+    flight condition, the thrust and the cycle choices are set."""
     prob = om.Problem(reports=False)
-    prob.model.add_subsystem("engine", InstalledEngineGroup(num_engines=2), promotes=["*"])
+    prob.model.add_subsystem("engine", cls(num_engines=2), promotes=["*"])
     prob.setup()
-    prob.set_val("altitude", 35000.0, units="ft")
-    prob.set_val("dT_isa", 10.0, units="K")
-    prob.set_val("Mach0", 0.78)
-    prob.set_val("thrust_required", 24.0, units="kN")
+    prob.set_val(PREFIX + "altitude", 35000.0, units="ft")
+    prob.set_val(PREFIX + "dT_isa", 10.0, units="K")
+    prob.set_val(PREFIX + "Mach0", 0.78)
+    prob.set_val(PREFIX + "thrust_required", 24.0, units="kN")
     for name, value in DESIGN.items():
-        prob.set_val(name, value, units="K" if name == "Tt4" else None)
+        prob.set_val(PREFIX + name, value, units="K" if name == "Tt4" else None)
     return prob
 
 
+@pytest.fixture(scope="module")
+def bare():
+    """The bare design-point group (README's embedding example)."""
+    return _bare(InstalledEngineGroup)
+
+
 def _promoted_inputs(prob):
+    """{plain name: [units of every input promoted to it]}, the interface prefix removed."""
     meta = prob.model.get_io_metadata(iotypes="input", metadata_keys=["units"], get_remote=True)
     out = {}
     for m in meta.values():
-        out.setdefault(m["prom_name"], []).append(m["units"])
+        out.setdefault(m["prom_name"].removeprefix(PREFIX), []).append(m["units"])
     return out
 
 
@@ -67,7 +78,7 @@ def test_group_defaults_are_the_table(bare):
     prob = om.Problem(InstalledEngineGroup(num_engines=2), reports=False)
     prob.setup()
     for name, (value, units) in INPUT_DEFAULTS.items():
-        assert prob.get_val(name, units=units)[0] == value, name
+        assert prob.get_val(PREFIX + name, units=units)[0] == value, name
 
 
 def test_scenario_defaults_are_the_table():
@@ -98,25 +109,17 @@ def test_bare_group_equals_demo_scenario_evaluation(bare):
     for name, units in (("installed_TSFC", "mg/(N*s)"), ("mission_fuel", "kg"), ("nacelle_max_diameter", "m"),
                         ("powerplant_mass", "kg")):
         expected = prob.get_val(name, units=units)[0]
-        assert bare.get_val(name, units=units)[0] == pytest.approx(expected, rel=1e-10), name
+        assert bare.get_val(PREFIX + name, units=units)[0] == pytest.approx(expected, rel=1e-10), name
 
 
 def test_bare_multipoint_group_equals_demo_evaluation():
     """The bare multipoint group, with the design flight condition, thrust and cycle set as README shows, gives the
     demo scenario's multipoint engine (its take-off and cruise defaults are the demo's) to 1e-9."""
-    prob = om.Problem(reports=False)
-    prob.model.add_subsystem("engine", InstalledMultipointGroup(num_engines=2), promotes=["*"])
-    prob.setup()
-    prob.set_val("altitude", 35000.0, units="ft")
-    prob.set_val("dT_isa", 10.0, units="K")
-    prob.set_val("Mach0", 0.78)
-    prob.set_val("thrust_required", 24.0, units="kN")
-    for name, value in DESIGN.items():
-        prob.set_val(name, value, units="K" if name == "Tt4" else None)
+    prob = _bare(InstalledMultipointGroup)
     prob.run_model()
     demo = build_evaluation_problem(load_scenario(), design=DESIGN)
     demo.run_model()
     for name, units in (("cruise:installed_TSFC", "mg/(N*s)"), ("mission_fuel", "kg"), ("takeoff:Tt41", "K"),
                         ("takeoff:Tt3", "K"), ("nacelle_max_diameter", "m")):
         expected = demo.get_val(name, units=units)[0]
-        assert prob.get_val(name, units=units)[0] == pytest.approx(expected, rel=1e-9), name
+        assert prob.get_val(PREFIX + name, units=units)[0] == pytest.approx(expected, rel=1e-9), name

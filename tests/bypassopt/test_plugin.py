@@ -27,13 +27,15 @@ def _registered(group):
 
 
 def _shipped_classes(base):
-    """Public classes derived from ``base`` defined in the shipped packages, {name: class}."""
+    """Public, concrete classes derived from ``base`` defined in the shipped packages, {name: class} (an abstract
+    base such as ``InterfaceGroup`` cannot be instantiated, so it has no entry point)."""
     found = {}
     for package in (bypassopt, bypassopt.components, bypassopt.problems):
         for info in pkgutil.walk_packages(package.__path__, package.__name__ + "."):
             module = importlib.import_module(info.name)
             for name, obj in inspect.getmembers(module, inspect.isclass):
-                if obj.__module__ == module.__name__ and not name.startswith("_") and issubclass(obj, base):
+                if (obj.__module__ == module.__name__ and not name.startswith("_") and issubclass(obj, base)
+                        and not inspect.isabstract(obj)):
                     found[name] = obj
     return found
 

@@ -11,6 +11,7 @@ from bypassopt.components.cycle.flow_capacity_comp import FlowCapacityComp
 from bypassopt.components.cycle.multipoint_group import SHARED_INPUTS
 from bypassopt.components.cycle.off_design_group import GEOMETRY
 from bypassopt.components.installation.installed_engine_group import InstalledEngineGroup
+from bypassopt.components.interface import ALL_PLAIN
 
 DESIGN_RTOL = 1e-8
 PARTIALS_TOL = 1e-10
@@ -29,7 +30,7 @@ RATING = (1150.0, 1750.0)  # Tt41 at throttle 0 and 1, K (the group's defaults)
 def design():
     """Installed demo engine sized at top of climb (its own nacelle drag included), with its flow capacities."""
     prob = om.Problem(reports=False)
-    prob.model.add_subsystem("engine", InstalledEngineGroup(include_mission=False), promotes=["*"])
+    prob.model.add_subsystem("engine", InstalledEngineGroup(include_mission=False, **ALL_PLAIN), promotes=["*"])
     prob.model.add_subsystem("capacity", FlowCapacityComp(), promotes=["*"])
     prob.setup()
     for k, v in TOP_OF_CLIMB.items():

@@ -9,6 +9,7 @@ import pytest
 from openmdao.utils.assert_utils import assert_check_totals, assert_no_approx_partials
 from scipy.optimize import minimize_scalar
 
+from bypassopt.components.interface import ALL_PLAIN
 from bypassopt.components.installation.installed_engine_group import InstalledEngineGroup
 
 CONVERGED_RTOL = 1e-8
@@ -37,7 +38,8 @@ COMPARED = ("W2", "Fn_required", "nacelle_drag", "installed_TSFC", "fan_tip_diam
 def build(nn=1, options=None, **overrides):
     """Installed engine at the demo operating point (values may be overridden; ``options`` of the group)."""
     prob = om.Problem(reports=False)
-    prob.model.add_subsystem("engine", InstalledEngineGroup(num_nodes=nn, **(options or {})), promotes=["*"])
+    prob.model.add_subsystem("engine", InstalledEngineGroup(num_nodes=nn, **ALL_PLAIN, **(options or {})),
+                             promotes=["*"])
     prob.setup(force_alloc_complex=True)
     for name, value in {**DEMO, **overrides}.items():
         prob.set_val(name, value)

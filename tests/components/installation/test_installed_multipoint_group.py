@@ -6,6 +6,7 @@ import pytest
 from openmdao.utils.assert_utils import assert_check_totals, assert_no_approx_partials
 
 from bypassopt.components.cycle.off_design_group import GEOMETRY
+from bypassopt.components.interface import ALL_PLAIN
 from bypassopt.components.installation.installed_multipoint_group import InstalledMultipointGroup
 from bypassopt.problems.best_cycle import apply_scenario
 from bypassopt.scenario import load_scenario
@@ -22,7 +23,7 @@ TOTALS_TOL = 1e-8
 def demo():
     """The demo scenario's engine (invented, shared/scenario.md) at its initial design."""
     prob = om.Problem(reports=False)
-    prob.model.add_subsystem("engine", InstalledMultipointGroup(), promotes=["*"])
+    prob.model.add_subsystem("engine", InstalledMultipointGroup(**ALL_PLAIN), promotes=["*"])
     prob.setup()
     apply_scenario(prob, load_scenario())
     prob.run_model()
@@ -108,7 +109,7 @@ def test_totals_match_complex_step_at_random_designs():
     n = 10
     rng = np.random.default_rng(2026)
     prob = om.Problem(reports=False)
-    prob.model.add_subsystem("engine", InstalledMultipointGroup(num_nodes=n), promotes=["*"])
+    prob.model.add_subsystem("engine", InstalledMultipointGroup(num_nodes=n, **ALL_PLAIN), promotes=["*"])
     prob.setup(force_alloc_complex=True)
     apply_scenario(prob, load_scenario())
     prob.set_val("BPR", rng.uniform(9.0, 11.5, n))
