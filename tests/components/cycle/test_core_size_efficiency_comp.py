@@ -6,6 +6,7 @@ import pytest
 from openmdao.utils.assert_utils import assert_check_partials
 
 from bypassopt.components.cycle.core_size_efficiency_comp import CoreSizeEfficiencyComp
+from bypassopt.components.defaults import TURBOMACHINERY_DEFAULTS
 from bypassopt.components.validation import InputRangeError
 
 EXACT_RTOL = 1e-12
@@ -78,6 +79,21 @@ def test_one_percent_more_clearance_costs_the_published_points():
     prob.run_model()
     assert 100.0 * (0.91 - prob.get_val("hpc_eff_poly")[0]) == pytest.approx(1.6, abs=K_COMPRESSOR_READING)
     assert 100.0 * (0.90 - prob.get_val("hpt_eff_poly")[1]) == pytest.approx(2.0, abs=K_TURBINE_READING)
+
+
+def test_small_core_clearance_against_the_published_last_stage_value():
+    """Plausibility of the size law with the default reference (1.5 % stage-averaged clearance / height at 3 kg/s,
+    components/defaults.py): at the thesis's smallest core, 1.5 lbm/s = 0.680 kg/s HPC exit corrected flow, the
+    clearance ratio the model implies, (c/h)_ref + (e_ref - e)/K = 3.15 %, is stage-averaged and so must lie below
+    the "up to 4.5 % clearance-to-span ratio at the last stage" stated for that size (MIT S.M. thesis 2012,
+    abstract), and above the reference level."""
+    w_ref = TURBOMACHINERY_DEFAULTS["core_size_ref"][0]
+    ratio_ref = TURBOMACHINERY_DEFAULTS["hpc_clearance_ratio_ref"][0]
+    prob = _problem(W3_corrected=1.5 * 0.45359237, core_size_ref=w_ref, hpc_clearance_ratio_ref=ratio_ref)
+    prob.run_model()
+    ratio = ratio_ref + (0.91 - prob.get_val("hpc_eff_poly")[0]) / K_COMPRESSOR_PUBLISHED
+    assert ratio == pytest.approx(0.0315, abs=5e-5)
+    assert ratio_ref < ratio < 0.045
 
 
 @pytest.mark.parametrize("w3", [0.4, 1.5, 2.24, 6.0])
