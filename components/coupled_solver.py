@@ -21,7 +21,9 @@ class _ConvergedStateChecks:
 
     ``last_solve_failed`` is None before the first solve, then True or False; the groups'
     ``guess_nonlinear`` restart the coupled unknowns from a physics guess unless the last solve
-    succeeded, so a failed run never poisons the next one.
+    succeeded, so a failed run never poisons the next one. After a converged solve whose validity checks
+    pass, the group's ``after_converged_solve()`` runs where it has one (the multipoint group keeps its
+    points' converged states as their next warm start).
     """
 
     last_solve_failed = None
@@ -39,6 +41,9 @@ class _ConvergedStateChecks:
                 raise
         self.last_solve_failed = False
         raise_validity_violations(log)
+        hook = getattr(self._system(), "after_converged_solve", None)
+        if hook is not None:
+            hook()
 
 
 class CheckedNewtonSolver(_ConvergedStateChecks, om.NewtonSolver):
@@ -54,7 +59,7 @@ def last_solve_succeeded(group):
     return getattr(group.nonlinear_solver, "last_solve_failed", None) is False
 
 
-def set_coupled_solvers(group, method, num_nodes, maxiter=40):
+def set_coupled_solvers(group, method, num_nodes, maxiter=40, newton_class=None):
     """Attach the nonlinear and linear solvers of a coupled group.
 
     'newton' (default): ``om.NewtonSolver`` with a first Gauss-Seidel pass (``solve_subsystems``) and
@@ -69,14 +74,16 @@ def set_coupled_solvers(group, method, num_nodes, maxiter=40):
 
     Absolute tolerances grow with sqrt(num_nodes) because the residual norm sums over the nodes.
 
+    ``newton_class`` replaces ``CheckedNewtonSolver`` (a subclass of it) for 'newton'.
+
     Both solvers judge the engineering validity ranges (``check_validity``) on the converged state only,
     and record whether their last solve failed (``_ConvergedStateChecks``).
     """
     atol = 1e-7 * np.sqrt(num_nodes)
     if method == "newton":
-        newton = group.nonlinear_solver = CheckedNewtonSolver(solve_subsystems=True, max_sub_solves=1,
-                                                          maxiter=maxiter, iprint=-1, atol=atol, rtol=1e-10,
-                                                          err_on_non_converge=True)
+        newton = group.nonlinear_solver = (newton_class or CheckedNewtonSolver)(
+            solve_subsystems=True, max_sub_solves=1, maxiter=maxiter, iprint=-1, atol=atol, rtol=1e-10,
+            err_on_non_converge=True)
         newton.linesearch = om.BoundsEnforceLS(bound_enforcement="scalar", iprint=-1)
         group.linear_solver = om.DirectSolver()
     elif method == "gauss_seidel":
