@@ -262,6 +262,17 @@ class Run:
         self._lock_path = None
         self._progress = []
         self._unlisted = set()
+        self.phase_seconds = {}
+        self._clock0 = time.perf_counter()
+
+    @contextlib.contextmanager
+    def phase(self, name):
+        """Add the wall time of the block to ``phase_seconds[name]`` (written to manifest.json; issue: speed)."""
+        t0 = time.perf_counter()
+        try:
+            yield
+        finally:
+            self.phase_seconds[name] = self.phase_seconds.get(name, 0.0) + time.perf_counter() - t0
 
     @property
     def shown_out(self):
@@ -422,7 +433,9 @@ class Run:
                     "command_line": ["bypassopt", *self.argv], "bypassopt_version": __version__,
                     "python": sys.version.split()[0], "scenario": self.scenario_source or
                     scenario_source(self.args.scenario), "started": self.started, "finished": utc_now(),
-                    "files": files, "caution": CAUTION}
+                    "files": files, "phase_seconds": {**{k: round(v, 3) for k, v in self.phase_seconds.items()},
+                                                      "total": round(time.perf_counter() - self._clock0, 3)},
+                    "caution": CAUTION}
         write_json(os.path.join(folder, MANIFEST), manifest)
 
     def progress(self, label):

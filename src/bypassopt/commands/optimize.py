@@ -88,31 +88,36 @@ def run(run, scenario):
         (run_carpet,) = require("bypassopt.problems.carpet", ("run_carpet",),
                                 "the carpet around the optimum (carpet.png; or add --no-plots)")
     objective = args.objective or scenario["optimizer"]["objective"]
-    with run.quiet_stdout():
-        precheck_design(scenario)
-    screen_warnings = screen_limits(run, scenario)
+    with run.phase("screen"):
+        with run.quiet_stdout():
+            precheck_design(scenario)
+        screen_warnings = screen_limits(run, scenario)
     run.prepare_out()
     history = run.out_path("history.sqlite")
     progress = run.progress("optimize")
     with run.quiet_stdout():
-        prob, settings = build_best_cycle_problem(scenario, objective=objective, driver=args.driver,
-                                                  recorder_path=history, reports=False)
+        with run.phase("setup"):
+            prob, settings = build_best_cycle_problem(scenario, objective=objective, driver=args.driver,
+                                                      recorder_path=history, reports=False)
         obj_name, obj_units, _ = OBJECTIVE_UNITS[objective]
         if "callback" in prob.driver.options:
             prob.driver.options["callback"] = progress_callback(progress, obj_name, obj_units)
-        result = prob.run_driver()
+        with run.phase("optimisation"):
+            result = prob.run_driver()
         success = driver_succeeded(result)
-        summary = optimum_summary(prob, settings, result)
-        summary["warnings"] = screen_warnings + summary.get("warnings", [])
-        prob.cleanup()
+        with run.phase("reports"):
+            summary = optimum_summary(prob, settings, result)
+            summary["warnings"] = screen_warnings + summary.get("warnings", [])
+            prob.cleanup()
     # the closing line and the summary give the same counts and time: the driver's
     opt = summary["optimizer"]
     state = "converged" if success else "stopped without converging"
     progress.finish(f"{state} after {optimizer_counts(opt)}", seconds=opt["runtime_s"])
     run.wrote(history)
-    write_summary_files(run, summary, "optimum")
+    with run.phase("reports"):
+        write_summary_files(run, summary, "optimum")
     if plots:
-        with run.quiet_stdout():
+        with run.quiet_stdout(), run.phase("plots"):
             write_png(run, "convergence.png", plot_convergence, history)
     if not success:
         raise NotConverged(f"the optimizer did not converge ({opt['message'] or 'no message'})", summary)
@@ -124,10 +129,10 @@ def run(run, scenario):
         around = copy.deepcopy(scenario)  # the carpet holds T4 at the optimum's (FPR: fixed_fpr)
         around["design_variables"]["Tt4_K"]["initial"] = q["Tt4"]["value"]
         bpr_values, opr_values = carpet_around(scenario, q["BPR"]["value"], q["OPR"]["value"])
-        with run.quiet_stdout():
+        with run.quiet_stdout(), run.phase("carpet around the optimum"):
             carpet = run_carpet(around, bpr_values, opr_values, fpr_mode="fixed", fixed_fpr=q["FPR"]["value"],
                                 progress=cprog)
         cprog.finish()
-        with run.quiet_stdout():
+        with run.quiet_stdout(), run.phase("plots"):
             write_png(run, "carpet.png", plot_carpet, carpet, optimum=optimum)
     return summary, EXIT_OK
