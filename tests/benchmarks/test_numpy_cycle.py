@@ -78,7 +78,6 @@ def test_warm_start_converges_in_one_pass_to_the_same_answer():
 
 def test_inputs_cover_the_group_and_the_design_point_is_the_demo():
     """The input dict holds every free input of the group; the design point is the demo scenario's."""
-    from benchmarks import set_inputs  # noqa: F401 - the benchmarks package imports cleanly
     from bypassopt.scenario import load_scenario, model_inputs
 
     prob = om.Problem(reports=False)
