@@ -13,6 +13,7 @@ import os
 import re
 import tempfile
 import textwrap
+import weakref
 
 import numpy as np
 
@@ -140,11 +141,20 @@ def _value(prob, name, units=None, node=0):
 
 
 def _has(prob, name):
-    try:
-        prob.get_val(name)
-    except (KeyError, RuntimeError):
-        return False
-    return True
+    """Whether ``name`` is a promoted name or a path of the problem's model (one metadata query per problem).
+
+    Asking ``prob.get_val`` and catching its error costs OpenMDAO's close-match search over every name
+    (measured: 3.4 s of a 4 s ``bypassopt evaluate``).
+    """
+    names = _NAMES.get(prob)
+    if names is None:
+        meta = prob.model.get_io_metadata(iotypes=("input", "output"), get_remote=True)
+        names = _NAMES[prob] = {m["prom_name"] for m in meta.values()} | set(meta)
+    return name in names
+
+
+#: Names of each problem's model, for ``_has`` (forgotten with the problem).
+_NAMES = weakref.WeakKeyDictionary()
 
 
 def design_summary(prob, node=0, scenario=None):
