@@ -44,6 +44,14 @@ GUESS_EFF_POLY = 0.9
 GUESS_T4_OVER_T41 = 1.03
 GUESS_SWEEPS = 4
 
+#: Continuation in the power setting (``MatchNewtonSolver``, used where the direct solve fails): first step as a
+#: fraction of the way from the corrected reference point to the requested power, the smallest step tried, the
+#: growth of a step after a converged one, and the most Newton solves one continuation may take.
+CONTINUATION_FIRST_STEP = 0.25
+CONTINUATION_MIN_STEP = 1.0 / 64.0
+CONTINUATION_GROWTH = 1.5
+CONTINUATION_MAX_SOLVES = 12
+
 
 class MatchLineSearch(om.ArmijoGoldsteinLS):
     """Backtracking line search judged on the match balances of a consistent cycle (``OffDesignGroup``).
@@ -128,9 +136,10 @@ class MatchNewtonSolver(CheckedNewtonSolver):
     whose match balances fall by less than ``STALL_DECREASE`` in ``STALL_ITERATIONS`` successive iterations
     stops (an unreachable thrust pins Tt4 at its bound; measured, it would otherwise run its 25 iterations of
     up to 11 evaluations, 9 s). A solve that started warm (``OffDesignGroup`` option ``warm_start``) and
-    failed is repeated once from the design-point start; a solve that did not converge raises
-    ``om.AnalysisError`` naming the node, its flight condition and power, and the balance left unmatched at
-    the last iterate.
+    failed is repeated once from the design-point start, and one that still fails below the corrected design
+    power is solved by continuation from there (``_solve_by_continuation``; ``OffDesignGroup`` option
+    ``continuation``); a solve that did not converge raises ``om.AnalysisError`` naming the node, its flight
+    condition and power, and the balance left unmatched at the last iterate.
     """
 
     _residuals_current = False
@@ -163,30 +172,123 @@ class MatchNewtonSolver(CheckedNewtonSolver):
         super()._run_apply()
 
     def solve(self):
-        """Solve; repeat a failed warm-started solve from the design point; name the cause of a failure."""
+        """Solve; repeat a failed warm start from the design point, then by continuation; name a failure's cause."""
         group = self._system()
-        self._stalled_iterations = 0
-        if self.linesearch is not None:
-            self.linesearch.last_error = None
+        # the outputs before any try: a later start begins from them, not from a failed try's last iterate (the
+        # offtake loop reads W2 from the previous pass; measured, a failed try's negative W2 spoiled the next start)
+        self._outputs_before = group._outputs.asarray().copy()
         try:
             try:
-                super().solve()
-            except om.AnalysisError:
-                if not getattr(group, "_started_warm", False):
+                self._solve_from_start()
+            except om.AnalysisError as err:
+                if group.under_complex_step or not group.options["continuation"]:
                     raise
-                group._force_design_start = True
-                self._stalled_iterations = 0
-                if self.linesearch is not None:
-                    self.linesearch.last_error = None
-                try:
-                    super().solve()
-                finally:
-                    group._force_design_start = False
+                self._solve_by_continuation(err)
         except om.AnalysisError as err:
             if "failed to converge" in str(err) and not group.under_complex_step:
                 raise om.AnalysisError(f"{err} {group._failure_description()}") from err
             raise
         group._remember_solution()
+
+    def _solve_once(self):
+        """One Newton solve from the start ``guess_nonlinear`` sets (stall count, last error and residual flag reset).
+
+        The residuals a failed solve's last line-search trial left are not those of the next start: without the
+        reset, the next solve would skip its first evaluation and could take them as converged.
+        """
+        self._stalled_iterations = 0
+        self._residuals_current = False
+        if self.linesearch is not None:
+            self.linesearch.last_error = None
+        super().solve()
+
+    def _solve_from_start(self):
+        """Solve from the warm or the design-point start; repeat a failed warm start from the design point."""
+        group = self._system()
+        try:
+            self._solve_once()
+        except om.AnalysisError:
+            if not getattr(group, "_started_warm", False):
+                raise
+            group._force_design_start = True
+            group._outputs.set_val(self._outputs_before)
+            try:
+                self._solve_once()
+            finally:
+                group._force_design_start = False
+
+    def _solve_by_continuation(self, first_error):
+        r"""Reach the requested power from the corrected design point in steps, each solve started from the last.
+
+        Only where some node's requested power lies below the corrected design point's: above it, a failure is a
+        power the engine does not have. The power input (``Tt4``, ``Tt41_required`` or ``Fn_required``) is set,
+        node by node, to the value at which the design-point start is the design point itself in corrected
+        terms (``OffDesignGroup.guess_nonlinear`` with :math:`\theta = 1`), solved there, and moved towards the
+        requested value by a fraction of the way that grows by ``CONTINUATION_GROWTH`` after a converged solve
+        and is halved after a failed one (down to ``CONTINUATION_MIN_STEP``, at most ``CONTINUATION_MAX_SOLVES``
+        solves). Each later solve starts from the last solution, its states extrapolated through the last two
+        (a secant predictor, clipped to the states' bounds; the first step holds them). The requested inputs are
+        restored whatever happens; the last solve is at exactly those. Raises ``om.AnalysisError`` with the
+        direct solve's message and where the continuation stopped.
+        """
+        group = self._system()
+        names = group._power_input_names()
+        target = {name: group._inputs[name].copy() for name in names}
+        goal = np.real(target[names[0]]).copy()
+        start = group._corrected_reference_power()
+        if np.all(goal >= start):
+            # above the corrected design point the design-point start is as good as a path (measured: the envelope
+            # sample converges from it); a failure there is a power the engine does not have (Tt4 at its bound)
+            raise first_error
+        fraction, step, solves, reason = 0.0, CONTINUATION_FIRST_STEP, 0, ""
+        try:
+            group._hold_start = False
+            group._outputs.set_val(self._outputs_before)
+            for name in names:
+                group._inputs[name] = start
+            solves += 1
+            try:
+                self._solve_once()
+            except om.AnalysisError as err:
+                reason = f"no match at the corrected design point itself ({err})"
+                raise
+            group._hold_start = True
+            states = group._state_names()
+
+            def converged():
+                return group._outputs.asarray().copy(), {k: np.real(group._outputs[k]).copy() for k in states}
+
+            (solution, now), before = converged(), None
+            while fraction < 1.0:
+                trial = min(1.0, fraction + step)
+                for name in names:
+                    group._inputs[name] = target[name] if trial == 1.0 else start + trial * (goal - start)
+                group._outputs.set_val(solution)
+                if before is not None:  # secant predictor through the last two solutions
+                    ratio = (trial - fraction) / (fraction - before[0])
+                    for k in states:
+                        _, lower, upper, _ = STATES[k]
+                        group._outputs[k] = np.clip(now[k] + ratio * (now[k] - before[1][k]), lower, upper)
+                solves += 1
+                try:
+                    self._solve_once()
+                except om.AnalysisError as err:
+                    group._outputs.set_val(solution)
+                    step *= 0.5
+                    if step < CONTINUATION_MIN_STEP or solves >= CONTINUATION_MAX_SOLVES:
+                        reason = f"stopped {fraction:.3g} of the way ({err})"
+                        raise
+                    continue
+                before = (fraction, now)
+                (solution, now), fraction = converged(), trial
+                step *= CONTINUATION_GROWTH
+        except om.AnalysisError:
+            raise om.AnalysisError(f"{first_error} Continuation in {names[0].rsplit('.', 1)[-1]} from the corrected "
+                                   f"design point: {reason}".rstrip(".") + ".") from first_error
+        finally:
+            group._hold_start = False
+            for name in names:
+                group._inputs[name] = target[name]
 
 
 class OffDesignGroup(om.Group):
@@ -252,6 +354,21 @@ class OffDesignGroup(om.Group):
     the time, with results equal within 1e-10 (measured, ``benchmarks/benchmark_off_design.py``); for
     scattered points the design start is as good.
 
+    **Continuation at low power** (option ``continuation``, default True; ``MatchNewtonSolver``). Far below
+    the corrected design power the moved design point is often no start at all: its first evaluation has
+    the core stream's total pressure below ambient and raises before Newton takes a step (measured on the
+    demo engine at 457 m, M 0.39: from the design start every rating up to Tt41 = 1450 K failed so, the
+    start's bypass ratio 13.4 against the solution's 11.8 at Tt41 = 1510 K, because the start relations
+    take both nozzles' flow functions as at the choked design point while near the ground both are
+    unchoked). Where the solve from the start fails and the requested power lies below the corrected
+    design point's, the power is brought down to it in steps from that point (the design point at this
+    flight condition in corrected terms), each Newton solve starting from the previous solution extended
+    along the path (a secant predictor), as an engine is throttled back along its operating line. It
+    changes no converged solution, only which ones are found: on the grid of 0-10 km (every 1 km; M 0.45
+    below 3 km, 0.6 above) by Tt41 1150-1450 K (9 values) of the OpenConcept example's engine all 99 points
+    converge (84 failed before: every rating at 0-3 km, the lowest five to eight above), in about 0.5-3 s
+    each where the continuation is needed (5-12 Newton solves).
+
     Convergence (measured, ``benchmarks/benchmark_off_design.py`` and the envelope test): from the design
     start, 500 of 500 seeded random points of 0-13 km, M 0-0.9, ISA-20..+25, at 40-100 % of the maximum
     thrust (maximum rating Tt4 = min(1800 K, (Tt4/Tt2)_design Tt2)) for the demo engine, and 500/500 for
@@ -262,14 +379,21 @@ class OffDesignGroup(om.Group):
     Cost (same benchmark, shared 2-core machine): one scalar solve 3-5 Newton iterations, 100-250 ms;
     vectorized, about 2 ms per point at 1000 nodes (one failing node fails the whole vector solve).
 
+    **Lowest power** (measured, the OpenConcept example's demo engine, ISA): the match reaches down to the
+    burner's valid range, Tt4 = 1000 K (Tt41 about 945 K), at altitude (10 668 m, M 0.78: 2.3 kN net
+    thrust, LPT expansion ratio 3.1, core nozzle pressure ratio 1.07); near the ground, before that, the core
+    nozzle pressure ratio falls towards 1 (457 m, M 0.39: no match below Tt41 = 948 K, 5.3 kN, where it is
+    1.026 and the LPT expansion ratio 1.90, at the edge of the choked-vane assumption below).
+
     Flight condition per node: ``altitude``, ``Mach0``, ``dT_isa``. Outputs as ``TurbofanCycleGroup``
     (stations, ``TSFC``, ``W2``, ``fuel_flow``, ``Tt41``, ``Tt3``) plus ``Fn`` and the current capacities.
     Valid where the NGVs stay choked (turbine expansion ratios above about 1.85; not checked, a
     limitation of the map-free method) and the design elements' ranges hold; a point that cannot be
     matched raises ``om.AnalysisError``, never NaN: an element's ``InputRangeError`` naming the cause (a
-    core nozzle pressure ratio below 1 where the burner-exit temperature is too low for the ram pressure),
-    or, when Newton does not converge or stalls, a message naming the node, its flight condition and power,
-    the balance left unmatched and the states held at a bound (an unreachable thrust pins Tt4 at 2400 K).
+    core nozzle pressure ratio below 1, a burner-exit temperature below the burner's range), with where the
+    continuation stopped, or, when Newton does not converge or stalls, a message naming the node, its flight
+    condition and power, the balance left unmatched and the states held at a bound (an unreachable thrust
+    pins Tt4 at 2400 K).
     """
 
     def initialize(self):
@@ -287,6 +411,9 @@ class OffDesignGroup(om.Group):
                              desc="with start_from_design: after a converged solve, start the next one from its "
                                   "solution (moved to the new inputs like the design point) instead of the "
                                   "design point; a failed warm start is repeated from the design point")
+        self.options.declare("continuation", types=bool, default=True,
+                             desc="where the solve from the start fails, reach the requested power by continuation "
+                                  "from the corrected design point (MatchNewtonSolver)")
 
     def setup(self):
         """Assemble the cycle, the capacities and the match balances."""
@@ -348,7 +475,8 @@ class OffDesignGroup(om.Group):
         temperature rises scale with it (items 3-4), the booster's follows the booster rule, the bypass ratio
         follows core continuity (item 5, nozzle flow functions taken as at the reference) and the net thrust
         the fan-face pressure. In the 'thrust' setting the start is the reference's corrected point
-        (:math:`\theta = 1`, Tt4 scaled with Tt2); in 'Tt41' Tt4 starts 3 % above the requested Tt41.
+        (:math:`\theta = 1`, Tt4 scaled with Tt2); in 'Tt41' Tt4 starts at the requested Tt41 times the
+        reference's Tt4/Tt41 (``GUESS_T4_OVER_T41`` for the design point, whose Tt41 is not an input).
         The reference is the design point (inputs ``*_design``) or, with ``warm_start`` after a converged
         solve, that solve's solution (the relations return it unchanged when the inputs are unchanged).
         A design-point start at a much lower Tt4 is often not an operating point at all (the turbines cannot
@@ -360,6 +488,8 @@ class OffDesignGroup(om.Group):
         setting = self.options["power_setting"]
         warm = (self.options["warm_start"] and not getattr(self, "_force_design_start", False)
                 and last_solve_succeeded(self) and getattr(self, "_solution", None) is not None)
+        if getattr(self, "_hold_start", False):
+            return  # continuation: start from the previous step's solution as it is
         if warm:
             ref = self._solution
             self._started_warm = True
@@ -376,7 +506,8 @@ class OffDesignGroup(om.Group):
         if setting == "thrust":
             tt4 = tt4_r * ratio_t2
         elif setting == "Tt41":
-            tt4 = GUESS_T4_OVER_T41 * np.real(inputs["Tt41_required"])
+            t4_over_t41 = ref["Tt4"] / ref["Tt41"] if "Tt41" in ref else GUESS_T4_OVER_T41
+            tt4 = t4_over_t41 * np.real(inputs["Tt41_required"])
         else:
             tt4 = np.real(inputs["cycle.burner.Tt4"])
         theta = tt4 / tt4_r / ratio_t2
@@ -400,23 +531,56 @@ class OffDesignGroup(om.Group):
             _, lower, upper, _ = STATES[state]
             outputs[state] = np.clip(value, lower, upper)
 
+    def _current_solution(self):
+        """Return the states and fan-face conditions of the current point, as a start-value reference (real parts)."""
+        outputs = self._outputs
+        tt4 = self._inputs["cycle.burner.Tt4"] if self.options["power_setting"] == "Tt4" else outputs["Tt4"]
+        fn = outputs["Fn"] if self.options["power_setting"] != "thrust" else self._inputs["cycle.sizing.Fn_required"]
+        return {name: np.real(value).copy() for name, value in (
+            ("FPR", outputs["FPR"]), ("OPR", outputs["OPR"]), ("BPR", outputs["BPR"]),
+            ("booster_PR", outputs["booster_PR"]), ("Tt4", tt4), ("Tt41", outputs["Tt41"]), ("Fn", fn),
+            ("Tt2", outputs["Tt2"]), ("Pt2", outputs["Pt2"]))}
+
     def _remember_solution(self):
         """Keep a converged solution as the reference of the next warm start (``warm_start``; not under cs)."""
         if self.under_complex_step or not self.options["warm_start"]:
             return
-        outputs = self._outputs
-        tt4 = self._inputs["cycle.burner.Tt4"] if self.options["power_setting"] == "Tt4" else outputs["Tt4"]
-        fn = outputs["Fn"] if self.options["power_setting"] != "thrust" else self._inputs["cycle.sizing.Fn_required"]
-        self._solution = {name: np.real(value).copy() for name, value in (
-            ("FPR", outputs["FPR"]), ("OPR", outputs["OPR"]), ("BPR", outputs["BPR"]),
-            ("booster_PR", outputs["booster_PR"]), ("Tt4", tt4), ("Fn", fn), ("Tt2", outputs["Tt2"]),
-            ("Pt2", outputs["Pt2"]))}
+        self._solution = self._current_solution()
+
+    def _state_names(self):
+        """Return the Newton states of this power setting (the match balances' outputs)."""
+        setting = self.options["power_setting"]
+        return ["FPR", "OPR", "BPR", "booster_PR"] + (["Fn"] if setting != "thrust" else []) + (
+            ["Tt4"] if setting != "Tt4" else [])
+
+    def _power_input_names(self):
+        """Names (relative to this group) of every input the power setting's promoted input feeds."""
+        if getattr(self, "_power_inputs", None) is None:
+            prom = {"Tt4": "Tt4", "Tt41": "Tt41_required", "thrust": "Fn_required"}[self.options["power_setting"]]
+            meta = self.get_io_metadata(iotypes="input", metadata_keys=["units"])  # prom_name always comes
+            self._power_inputs = sorted(name for name, m in meta.items() if m["prom_name"] == prom)
+        return self._power_inputs
+
+    def _corrected_reference_power(self):
+        r"""Power input, per node, at which the design-point start is the design point in corrected terms.
+
+        :math:`\theta = 1` in ``guess_nonlinear``: ``Tt4 = Tt4_design Tt2/Tt2_design`` (``Tt41_required`` that
+        divided by ``GUESS_T4_OVER_T41``); for a thrust, ``Fn_design Pt2/Pt2_design``.
+        """
+        inputs, outputs = self._inputs, self._outputs
+        self.cycle.flight.run_solve_nonlinear()
+        ratio_t2 = np.real(outputs["Tt0"]) / np.real(inputs["Tt2_design"])
+        setting = self.options["power_setting"]
+        if setting == "thrust":
+            pt2 = np.real(outputs["Pt0"] * inputs["inlet_recovery"])
+            return np.real(inputs["Fn_design"]) * pt2 / np.real(inputs["Pt2_design"])
+        tt4 = np.real(inputs["Tt4_design"]) * ratio_t2
+        return tt4 / GUESS_T4_OVER_T41 if setting == "Tt41" else tt4
 
     def _failure_description(self):
         """Sentence on a failed match: the node with the largest unmatched balance, its inputs and last iterate."""
         setting = self.options["power_setting"]
-        names = ["FPR", "OPR", "BPR", "booster_PR"] + (["Fn"] if setting != "thrust" else []) + (
-            ["Tt4"] if setting != "Tt4" else [])
+        names = self._state_names()
         res = {name: np.abs(np.real(self.match._residuals[name])) for name in names}
         worst = max(names, key=lambda name: float(np.max(res[name])))
         i = int(np.argmax(res[worst]))
