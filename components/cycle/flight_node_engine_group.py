@@ -22,9 +22,11 @@ THROTTLE_MAX = 1.05
 #: Default HPT rotor inlet temperature at throttle 1, K: the demo's top-of-climb T41 limit (scenario.md), used
 #: as the maximum climb and cruise rating.
 TT41_MAX_RATING_DEFAULT = 1750.0
-#: Default HPT rotor inlet temperature at throttle 0, K: a low-power stand-in of the demo, not a flight idle (the
-#: map-free match has no operating point at real idle; at this temperature it has none below about 9 km either,
-#: measured on the demo engine, so low throttles raise there).
+#: Default HPT rotor inlet temperature at throttle 0, K: a low-power stand-in of the demo, not a flight idle. The
+#: map-free match reaches it everywhere from sea level to 10 km at M 0.45-0.8 on the demo engine (measured, with the
+#: match's continuation); its lowest power lies near Tt41 = 945 K (``OffDesignGroup``: the burner's 1000 K at
+#: altitude, the core nozzle pressure ratio near the ground), so a mission that descends at lower thrust than this
+#: rating gives sets ``Tt41_min_rating`` lower (the OpenConcept example: 1000 K).
 TT41_MIN_RATING_DEFAULT = 1150.0
 
 #: The designed engine: per-engine inputs -> (default, units, description). The defaults are the demo engine
@@ -235,10 +237,13 @@ class FlightNodeEngineGroup(om.Group):
 
     Valid where ``OffDesignGroup`` is (NGVs choked, the elements' ranges; a node that cannot be matched
     raises ``om.AnalysisError``, never NaN); throttle 0-1.05 (``ThrottleRatingComp``). The throttle rating
-    is a constant-temperature rating (common practice for conceptual decks, not an engine control law). The
-    map-free match has no operating point at low power near the ground (its LPT vanes are held choked): on the
-    demo engine, Tt41 below about 1450 K at sea level, 1300 K at 6 km and 1150-1300 K above 9 km raise
-    (measured), so descents to the ground cannot be flown.
+    is a constant-temperature rating (common practice for conceptual decks, not an engine control law).
+    Low power near the ground, where the design-point start fails, is reached by the match's continuation
+    (``OffDesignGroup``): on the demo engine every node of 0-10 km at Tt41 1150-1450 K converges (before the
+    continuation, Tt41 below about 1450 K at sea level, 1300 K at 6 km and 1150-1300 K above 9 km raised,
+    measured), down to about Tt41 = 945 K (the burner's 1000 K at altitude; near the ground the core nozzle
+    pressure ratio falls to 1 there, 5.3 kN net thrust at 457 m, M 0.39). Option ``warm_start`` starts each
+    match from the last converged one, as a mission model's solver re-solves the engine at nearby inputs.
     """
 
     def initialize(self):
@@ -254,6 +259,9 @@ class FlightNodeEngineGroup(om.Group):
                                   "model's altitude, thrust and fuel_flow)")
         self.options.declare("include_fuel_mass", types=bool, default=True,
                              desc="include the fuel mass in the flows (as the design point)")
+        self.options.declare("warm_start", types=bool, default=False,
+                             desc="start each match from the last converged one (OffDesignGroup option warm_start): "
+                                  "for a mission model whose solver re-solves the engine at nearby inputs")
 
     def setup(self):
         """Assemble the rating, the off-design match, the nacelle drag and the installed thrust."""
@@ -268,7 +276,8 @@ class FlightNodeEngineGroup(om.Group):
                                promotes_inputs=[("throttle", f"{pre}throttle"), "Tt41_min_rating",
                                                 "Tt41_max_rating"])
         off_design = OffDesignGroup(num_nodes=nfn, gas=self.options["gas"], power_setting="Tt41" if throttle
-                                    else "thrust", include_fuel_mass=self.options["include_fuel_mass"])
+                                    else "thrust", include_fuel_mass=self.options["include_fuel_mass"],
+                                    warm_start=self.options["warm_start"])
         flight = [(k, f"{pre}{k}") for k in ("altitude", "Mach0", "dT_isa")]
         power = [] if throttle else [("Fn_required", f"{pre}Fn_required")]
         outputs = [(k, f"{pre}{k}") for k in NODE_OUTPUTS + (("Fn",) if throttle else ())]

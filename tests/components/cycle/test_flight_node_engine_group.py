@@ -17,6 +17,8 @@ DESIGN_RTOL = 1e-8
 PARTIALS_TOL = 1e-10
 # Totals through the per-node off-design Newton (normalised balances converged to 1e-8): as test_off_design_group.
 TOTALS_TOL = 1e-8
+# A re-evaluation at an unchanged converged state (the elements recomputed once): round-off only.
+ROUND_OFF = 1e-12
 SEED = 15
 
 # Invented demo top of climb (shared/scenario.md, demo twin 170): M 0.78, 10 668 m, ISA+10, 24 kN installed per
@@ -134,6 +136,31 @@ def test_partials_of_the_new_components_and_the_drag(random_nodes):
                                        out_stream=None)
     assert sorted(data) == ["fn.broadcast", "fn.drag", "fn.rating"]
     assert_check_partials(data, atol=PARTIALS_TOL, rtol=PARTIALS_TOL)
+
+
+def test_low_power_nodes_near_the_ground(design):
+    """Throttle 0 (the default 1150 K rating) at 1500 ft and at sea level: operating points, reached warm.
+
+    The design-point start has none there (the match's continuation finds them; ``OffDesignGroup``); with
+    ``warm_start`` a second solve of the same nodes starts at the solution and needs no iteration. Thrust falls
+    with throttle at each node and stays positive.
+    """
+    prob = build(design, 2, warm_start=True)
+    assert prob.model.fn.off_design.options["warm_start"]
+    prob.set_val("engine:altitude", [457.2, 0.0])
+    prob.set_val("engine:Mach0", [0.39, 0.3])
+    prob.set_val("engine:dT_isa", [0.0, 15.0])
+    prob.set_val("engine:throttle", [0.2, 0.2])
+    prob.run_model()
+    higher = prob.get_val("engine:installed_thrust").copy()
+    prob.set_val("engine:throttle", [0.0, 0.0])
+    prob.run_model()
+    idle = prob.get_val("engine:installed_thrust").copy()
+    assert np.all(idle > 0.0) and np.all(idle < higher)
+    np.testing.assert_allclose(prob.get_val("engine:Tt41"), RATING[0], rtol=DESIGN_RTOL)
+    prob.run_model()
+    assert prob.model.fn.off_design.nonlinear_solver._iter_count == 0
+    np.testing.assert_allclose(prob.get_val("engine:installed_thrust"), idle, rtol=ROUND_OFF)
 
 
 def test_throttle_rating_is_linear():
