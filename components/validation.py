@@ -47,6 +47,26 @@ ROUND_OFF_RTOL = 1e-12
 MAX_NODES_LISTED = 200
 
 
+def first_bad_node(bad):
+    """Index of the first True element of ``bad`` and the message text that names the offending nodes.
+
+    The text is '' for a single element, else ``' at node i'`` followed by ``' (also at nodes j, k, ...)'`` when
+    more nodes fail (up to ``MAX_NODES_LISTED``), so that a vectorized caller can set all of them aside at once
+    (``failing_nodes`` reads it back).
+    """
+    flat = np.atleast_1d(bad).ravel()
+    i = int(np.argmax(flat))
+    if flat.size == 1:
+        return i, ""
+    node = f" at node {i}"
+    others = np.flatnonzero(flat)[1:]
+    if others.size:
+        shown = ", ".join(str(k) for k in others[:MAX_NODES_LISTED])
+        more = f" and {others.size - MAX_NODES_LISTED} more" if others.size > MAX_NODES_LISTED else ""
+        node += f" (also at nodes {shown}{more})"
+    return i, node
+
+
 def _range_message(name, value, lower, upper, units, lower_inclusive, upper_inclusive, where):
     """Return (message naming the first offending element, or None when all are valid; any NaN)."""
     v = np.real(np.asarray(value))
@@ -66,14 +86,8 @@ def _range_message(name, value, lower, upper, units, lower_inclusive, upper_incl
     bad = bad_nan | lo_bad | hi_bad
     if not np.any(bad):
         return None, False
-    i = int(np.argmax(bad))
+    i, node = first_bad_node(bad)
     u = f" {units}" if units else ""
-    node = f" at node {i}" if flat.size > 1 else ""
-    others = np.flatnonzero(bad)[1:]
-    if others.size:  # every offending node, so that a vectorized caller can set all of them aside at once
-        shown = ", ".join(str(k) for k in others[:MAX_NODES_LISTED])
-        more = f" and {others.size - MAX_NODES_LISTED} more" if others.size > MAX_NODES_LISTED else ""
-        node += f" (also at nodes {shown}{more})"
     lo_s = "" if lower == -np.inf else ("from " if lower_inclusive else "above ") + _fmt(lower)
     hi_s = "" if upper == np.inf else ("up to " if upper_inclusive else "below ") + _fmt(upper)
     rng = " ".join(s for s in (lo_s, hi_s) if s) + u

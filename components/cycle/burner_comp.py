@@ -5,7 +5,7 @@ import openmdao.api as om
 
 from bypassopt.components.gas.thermo import DRY_AIR_FAR, CaloricallyPerfectGas
 from bypassopt.components.ranges import INPUT_RANGES, range_kwargs
-from bypassopt.components.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range, first_bad_node
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 TT4_RANGE = (1000.0, 2400.0)
@@ -14,13 +14,6 @@ PRESSURE_LOSS_MAX = INPUT_RANGES["burner_pressure_loss"][1]
 """Largest accepted burner total-pressure loss fraction, -."""
 LHV_RANGE = INPUT_RANGES["fuel_LHV"][:2]
 """Accepted fuel lower heating values, J/kg (kerosene 43 MJ/kg; hydrogen about 120 MJ/kg)."""
-
-
-def _first_bad(mask):
-    """Index of the first True element and the ' at node i' text for messages."""
-    mask = np.atleast_1d(mask)
-    i = int(np.argmax(mask))
-    return i, (f" at node {i}" if mask.size > 1 else "")
 
 
 class BurnerComp(om.ExplicitComponent):
@@ -126,7 +119,7 @@ class BurnerComp(om.ExplicitComponent):
         T3, T4 = np.real(inputs["Tt3"]), np.real(inputs["Tt4"])
         bad = T4 <= T3
         if np.any(bad):
-            i, node = _first_bad(bad)
+            i, node = first_bad_node(bad)
             raise InputRangeError(
                 f"{where}: Tt4 = {np.atleast_1d(T4)[i]:.6g} K{node} is not above the compressor exit "
                 f"temperature Tt3 = {np.atleast_1d(T3)[i]:.6g} K.")
@@ -158,7 +151,7 @@ class BurnerComp(om.ExplicitComponent):
         far, den, h_fuel, _ = self._far(inputs)
         bad = np.real(den) <= 0.0
         if np.any(bad):
-            i, node = _first_bad(bad)
+            i, node = first_bad_node(bad)
             heat = np.atleast_1d(np.real(inputs["combustion_eff"] * inputs["fuel_LHV"]))[i]
             h_fuel_i = np.atleast_1d(np.real(h_fuel))[i]
             raise InputRangeError(
@@ -166,7 +159,7 @@ class BurnerComp(om.ExplicitComponent):
                 f"enthalpy of the products per kg of fuel at Tt4, {h_fuel_i:.6g} J/kg.")
         bad = np.real(far) > gas.far_stoich
         if np.any(bad):
-            i, node = _first_bad(bad)
+            i, node = first_bad_node(bad)
             T3, T4 = (np.atleast_1d(np.real(inputs[k]))[i] for k in ("Tt3", "Tt4"))
             raise InputRangeError(
                 f"{self.pathname}: fuel-air ratio FAR4 = {np.atleast_1d(np.real(far))[i]:.6g}{node} is above "

@@ -6,7 +6,7 @@ import openmdao.api as om
 from bypassopt.components.gas.processes import polytropic_compression
 from bypassopt.components.gas.thermo import DRY_AIR_FAR
 from bypassopt.components.ranges import range_kwargs
-from bypassopt.components.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range, first_bad_node
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 PR_MAX = 100.0
@@ -149,10 +149,9 @@ class CompressorComp(om.ExplicitComponent):
         pr, _ = self._pressure_ratio(inputs)
         bad = np.atleast_1d(np.real(pr) <= 1.0)
         if np.any(bad):
-            i = int(np.argmax(bad))
+            i, node = first_bad_node(bad)
             opr = np.atleast_1d(np.real(inputs["OPR"]))[i]
             upstream = np.atleast_1d(np.real(inputs[n["Pt_in"]] / inputs["Pt2"]))[i]
-            node = f" at node {i}" if bad.size > 1 else ""
             raise InputRangeError(
                 f"{where}: OPR = {opr:.6g}{node} is not above the fan core-side and booster pressure ratio "
                 f"product {n['Pt_in']}/Pt2 = {upstream:.6g} (the {self.options['name']} pressure ratio "

@@ -4,7 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.ranges import INPUT_RANGES, range_kwargs
-from bypassopt.components.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range, first_bad_node
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 SMOOTHING = 1e-4
@@ -156,8 +156,7 @@ class CoolingBleedComp(om.ExplicitComponent):
             Tm = np.atleast_1d(np.real(inputs[name]))
             bad = Tc >= Tm
             if np.any(bad):
-                i = int(np.argmax(bad))
-                node = f" at node {i}" if bad.size > 1 else ""
+                i, node = first_bad_node(bad)
                 raise InputRangeError(
                     f"{where}: coolant temperature Tt3 = {Tc[i]:.6g} K{node} is not below the allowable "
                     f"metal temperature {name} = {Tm[i]:.6g} K: the cooling correlation needs Tt3 < {name}.")
@@ -198,8 +197,7 @@ class CoolingBleedComp(om.ExplicitComponent):
         burner = 1.0 - psi_v - psi_r - bleed
         low = np.atleast_1d(np.real(burner) < BURNER_AIR_FRAC_MIN)
         if np.any(low):
-            i = int(np.argmax(low))
-            node = f" at node {i}" if low.size > 1 else ""
+            i, node = first_bad_node(low)
             vals = (np.atleast_1d(np.real(v))[i] for v in (burner, psi_v, psi_r, bleed))
             b, v, r, c = vals
             raise InputRangeError(

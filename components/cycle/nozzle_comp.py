@@ -6,7 +6,7 @@ import openmdao.api as om
 from bypassopt.components.gas.flow import sonic
 from bypassopt.components.gas.thermo import DRY_AIR_FAR
 from bypassopt.components.ranges import range_kwargs
-from bypassopt.components.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range, first_bad_node
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 _PREFIX = {"core": "core_nozzle", "bypass": "bypass_nozzle"}
@@ -206,8 +206,7 @@ class NozzleComp(om.ExplicitComponent):
         npr = Pt / Ps0
         bad = npr <= 1.0
         if np.any(bad):
-            i = int(np.argmax(bad))
-            node = f" at node {i}" if npr.size > 1 else ""
+            i, node = first_bad_node(bad)
             raise InputRangeError(f"{where}: nozzle pressure ratio Pt/Ps0 = {npr[i]:.6g} is not above 1: "
                                   f"the stream cannot produce thrust ({n['Pt']} = {Pt[i]:.6g} Pa, "
                                   f"Ps0 = {Ps0[i]:.6g} Pa{node}).")

@@ -4,7 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.ranges import range_kwargs
-from bypassopt.components.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range, first_bad_node
 from bypassopt.components.options import declare_num_nodes
 
 
@@ -96,9 +96,9 @@ class PerformanceComp(om.ExplicitComponent):
         """Evaluate performance; raise if the net thrust is not positive."""
         w8, w18, v8, v18, v0, fn, wf, dke = self._terms(inputs)
         if np.any(np.real(fn) <= 0.0):
-            i = int(np.argmax(np.real(fn) <= 0.0))
+            i, node = first_bad_node(np.real(fn) <= 0.0)
             raise InputRangeError(
-                f"net thrust per unit air flow = {np.real(fn[i]):.6g} N*s/kg at node {i} is not positive: the fan "
+                f"net thrust per unit air flow = {np.real(fn[i]):.6g} N*s/kg{node} is not positive: the fan "
                 f"and core jets (V18 = {np.real(v18[i]):.4g}, V8 = {np.real(v8[i]):.4g} m/s) are too slow for "
                 f"the flight speed V0 = {np.real(v0[i]):.4g} m/s (fan too weak)."
             )

@@ -4,7 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.ranges import INPUT_RANGES, range_kwargs
-from bypassopt.components.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range, first_bad_node
 from bypassopt.components.options import declare_num_nodes
 
 BPR_MAX = 30.0
@@ -96,8 +96,7 @@ class SpoolPowerComp(om.ExplicitComponent):
         check_range("BPR", bpr, where=where)  # NaN
         flat = np.real(bpr)
         if np.any(flat <= 0.0):
-            i = int(np.argmax(flat <= 0.0))
-            node = f" at node {i}" if flat.size > 1 else ""
+            i, node = first_bad_node(flat <= 0.0)
             raise InputRangeError(f"{where}: BPR = {flat[i]:.6g} must be above 0{node} (a turbofan "
                                   f"has a bypass stream; valid range above 0 up to {BPR_MAX:g}).")
         check_range("BPR", bpr, 0.0, BPR_MAX, "", lower_inclusive=False, where=where)

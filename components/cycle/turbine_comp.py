@@ -4,7 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.gas.processes import expansion_from_work
-from bypassopt.components.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range, first_bad_node
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 
@@ -123,8 +123,7 @@ class TurbineComp(om.ExplicitComponent):
         available = gas.properties(Tt_in, far).h - gas.properties(np.full_like(Tt_in, gas.T_MIN), far).h
         bad = w >= available
         if np.any(bad):
-            i = int(np.argmax(bad))
-            node = f" at node {i}" if w.size > 1 else ""
+            i, node = first_bad_node(bad)
             raise InputRangeError(
                 f"{where}: turbine work {w[i]:.6g} J/kg is larger than the gas at "
                 f"{n['Tt_in']} = {Tt_in[i]:.6g} K can give ({available[i]:.6g} J/kg down to the gas "

@@ -4,7 +4,7 @@ import numpy as np
 import openmdao.api as om
 
 from bypassopt.components.ranges import range_kwargs
-from bypassopt.components.validation import InputRangeError, check_range
+from bypassopt.components.validation import InputRangeError, check_range, first_bad_node
 from bypassopt.components.options import declare_num_nodes
 
 
@@ -61,8 +61,8 @@ class InstalledPerformanceComp(om.ExplicitComponent):
         check_range("fuel_flow", inputs["fuel_flow"], 0.0, np.inf, "kg/s")
         fi = inputs["W2"] * inputs["Fn_specific"] - inputs["nacelle_drag"]
         if np.any(np.real(fi) <= 0.0):
-            i = int(np.argmax(np.real(fi) <= 0.0))
-            raise InputRangeError(f"installed thrust = {np.real(fi[i]):.6g} N at node {i} is not positive: the "
+            i, node = first_bad_node(np.real(fi) <= 0.0)
+            raise InputRangeError(f"installed thrust = {np.real(fi[i]):.6g} N{node} is not positive: the "
                                   "nacelle drag exceeds the engine's net thrust.")
         outputs["Fn_required"] = inputs["thrust_required"] + inputs["nacelle_drag"]
         outputs["installed_thrust"] = fi

@@ -460,7 +460,7 @@ BAD_CYCLES = {
                            r"lpt: turbine work .* J/kg is larger than the gas at Tt45 = .* K can give"),
     "net_thrust_not_positive": ({"FPR": 1.02, "BPR": 30.0, "Mach0": 0.9, "Tt4": 1150.0, "OPR": 20.0,
                                  "bypass_duct_pressure_loss": 0.08}, None, "correlation",
-                                r"net thrust per unit air flow = -[\d.]+ N\*s/kg .* is not positive"),
+                                r"net thrust per unit air flow = -[\d.]+ N\*s/kg.* is not positive"),
 }
 
 

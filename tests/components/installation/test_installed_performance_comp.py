@@ -60,9 +60,9 @@ def test_partials_complex_step(nn):
 
 @pytest.mark.parametrize("values, pattern", [
     ({"W2": 10.0, "Fn_specific": 100.0, "nacelle_drag": 1000.0},
-     r"installed thrust = 0 N at node 0 is not positive: the nacelle drag exceeds"),
+     r"installed thrust = 0 N is not positive: the nacelle drag exceeds"),
     ({"W2": 5.0, "Fn_specific": 100.0, "nacelle_drag": 1000.0},
-     r"installed thrust = -500 N at node 0 is not positive"),
+     r"installed thrust = -500 N is not positive"),
     ({"thrust_required": 0.0}, r"thrust_required = 0 N is outside the valid range \(above 0"),
     ({"nacelle_drag": -1.0}, r"nacelle_drag = -1 N is outside the valid range \(from 0"),
     ({"fuel_flow": np.nan}, r"fuel_flow = nan"),
