@@ -8,25 +8,39 @@ OPR (Tt4 held at the scenario's 1650 K) with SciPy's SLSQP, subject to the nacel
 take-off T41 and T3 limits. The optimum's active limits are printed, and the mission fuel is compared with the
 plugin's own Breguet estimate (``MissionFuelComp``, as ``bypassopt evaluate`` computes it).
 
-**Why the two differ** (printed term by term): the Breguet estimate flies the whole 5 000 km in cruise at the
-top-of-climb installed TSFC (ISA+10, the sizing thrust), the scenario's L/D 17.5 and the design point's (ISA+10)
-true airspeed, and books taxi, take-off, climb, descent and landing as segment mass fractions from the ground. The
-flown mission covers about 520 km of the range in its climb and descent, cruises at part power with the TSFC the
-engine has there, at the polar's L/D and the ISA airspeed, and flies only the climb and descent above 8 km. Replacing
-Breguet's cruise inputs one by one by the flown cruise's values reproduces the flown cruise fuel to 0.1 %; most of
-the gap is the range flown outside cruise and the segment fractions' fuel below 8 km, which the flown mission does
-not contain.
+**Mission.** ``BasicMission`` climbs from and descends to one altitude, ``takeoff|h``: here ``TERMINAL_ALTITUDE``,
+1500 ft (457 m), the end of a take-off and the start of an approach; the take-off roll, the initial climb and the
+landing below it are not flown. It climbs at 250 kn EAS (2500 ft/min at 1500 ft, 500 ft/min at the top), cruises at
+Mach 0.78 and 10 668 m, and descends at 250 kn EAS, 1500 ft/min at the top and 700 ft/min at 1500 ft; OpenConcept
+prescribes those vertical speeds and solves each node's throttle (bounded to 0.01-1.05 by its own balance). The
+off-design engine flies every node, down to 1500 ft.
 
-Run (about two minutes on a 2-core machine; needs the openconcept extra: OpenConcept 1.2.6, numpy < 2)::
+**Descent power: a documented choice.** A real descent is flown at flight idle with the descent rate following. In
+``BasicMission`` the descent rate is given and the throttle follows, so the profile is chosen so that the thrust it
+needs stays inside the engine's map-free operating range: throttle 0 is ``TT41_IDLE`` (1000 K Tt41, the
+flight-idle stand-in, 55 K above the lowest power the map-free match has: about 945 K, where Tt4 reaches the burner's
+1000 K at altitude and, near the ground, the core nozzle pressure ratio falls to 1; ``OffDesignGroup``), and the
+descent rate eases from 1500 to 700 ft/min so that the throttle stays above 0 (measured: from 0.25 at the top of
+descent to 0.07 at 1500 ft at the scenario's start design, Tt41 1187 K to 1052 K; 0.06 at the optimum). At every
+descent node the LPT expansion ratio stays above 2.3 and the core nozzle pressure ratio above 1.03, inside the
+choked-vane validity of the map-free match (the report prints both for every phase). A steeper descent would ask
+for less thrust than the idle rating gives, and the framework's throttle balance has no solution there; so would
+some corners of the design box (BPR 6, FPR 1.9, OPR 25 measured: its mission does not converge), which the optimizer
+backs off from.
+
+**The comparison with the plugin's estimate** (printed term by term). The Breguet estimate flies the whole 5 000 km
+in cruise at the top-of-climb installed TSFC (ISA+10, the sizing thrust), the scenario's L/D 17.5 and the design
+point's (ISA+10) true airspeed, and books taxi, take-off, climb, descent and landing as segment mass fractions from
+the ground. The flown mission covers about 557 km of the range in its climb and descent, cruises at part power with
+the TSFC the engine has there, at the polar's L/D and the ISA airspeed, and flies climb and descent node by node
+above 1500 ft. Replacing Breguet's cruise inputs one by one by the flown cruise's values reproduces the flown cruise
+fuel to 0.1 %. The rest of the gap is outside cruise: about 3 000 kg of segment fractions (ground to ground,
+including taxi, take-off and landing) against about 2 050 kg flown in climb and descent above 1500 ft.
+
+Run (about 45 s on a 2-core machine; needs the openconcept extra: OpenConcept 1.2.6, numpy < 2)::
 
     python examples/openconcept_mission.py            # analysis, optimisation, comparison
     python examples/openconcept_mission.py --analysis # the starting design only
-
-**Terminal altitude.** ``BasicMission`` climbs from and descends to one altitude, ``takeoff|h``. The map-free
-off-design match has no operating point at the low power a descent needs below about 7 km on this engine (its
-turbine vanes are held choked; ``OffDesignGroup``), so the mission is flown between ``TERMINAL_ALTITUDE`` (8 km) and
-the cruise altitude, over the whole design range; take-off, the climb to 8 km, the descent below it and the
-landing are not flown. The comparison below accounts for that.
 """
 
 import argparse
@@ -49,8 +63,8 @@ from bypassopt.problems.kkt import ACTIVE_TOL
 NUM_NODES = 5
 #: Engines on the aircraft.
 NUM_ENGINES = 2
-#: Lowest altitude flown, m: where the climb starts and the descent ends (see the module docstring).
-TERMINAL_ALTITUDE = 8000.0
+#: Lowest altitude flown, m (1500 ft): where the climb starts and the descent ends (module docstring, "Mission").
+TERMINAL_ALTITUDE = 457.2
 #: Cruise altitude, m (10 668 m = 35 000 ft) and design range, m (scenario.md).
 CRUISE_ALTITUDE = 10668.0
 DESIGN_RANGE = 5.0e6
@@ -72,15 +86,18 @@ CD0 = 0.019
 LIFT_TO_DRAG = 17.5
 
 #: Flight schedule: equivalent airspeeds (kn) and vertical speeds (ft/min), first and last node of each phase.
-#: 250 kn EAS at 10 668 m is Mach 0.78 (scenario.md's cruise). The descent is shallow so that the engine stays
-#: above the lowest power the map-free match can reach.
-SCHEDULE = {"climb": {"Ueas": (290.0, 250.0), "vs": (1500.0, 500.0)},
+#: 250 kn EAS at 10 668 m is Mach 0.78 (scenario.md's cruise). The descent eases to 700 ft/min at 1500 ft so that the
+#: thrust it needs stays above that of the idle rating (module docstring, "Descent power").
+SCHEDULE = {"climb": {"Ueas": (250.0, 250.0), "vs": (2500.0, 500.0)},
             "cruise": {"Ueas": (250.0, 250.0), "vs": (0.0, 0.0)},
-            "descent": {"Ueas": (250.0, 290.0), "vs": (-300.0, -300.0)}}
+            "descent": {"Ueas": (250.0, 250.0), "vs": (-1500.0, -700.0)}}
+#: HPT rotor inlet temperature at throttle 0, K: the flight-idle stand-in (``ac|propulsion|engine|Tt41_min_rating``;
+#: the maximum rating stays the propulsion system's default, the 1750 K top-of-climb limit).
+TT41_IDLE = 1000.0
 #: Start values of the mission's own unknowns (a converged design's, rounded): the first Newton iteration needs
-#: engine throttles inside the match's range, and OpenConcept's default Mach number (1.0) is outside it.
-START = {"climb": {"throttle": 0.65, "duration": 530.0}, "cruise": {"throttle": 0.45, "duration": 2.0e4},
-         "descent": {"throttle": 0.36, "duration": 1750.0}}
+#: engine throttles inside the rating, and OpenConcept's default Mach number (1.0) is outside the match's range.
+START = {"climb": {"throttle": 0.7, "duration": 1340.0}, "cruise": {"throttle": 0.55, "duration": 1.93e4},
+         "descent": {"throttle": 0.1, "duration": 1750.0}}
 START_MACH = 0.75
 
 #: Design variables (scenario.md's bounds; start at its cycle starting point) and limits (scenario.md).
@@ -92,8 +109,8 @@ MISSION_FUEL = "mission.descent.fuel_used_final"
 FUEL_REF = 1.0e4
 
 #: Tolerances of the mission's Newton solver. The residual norm cannot fall much below 1e-8 (measured): every
-#: engine node re-converges its own match from the design point at each iteration, to its own tolerance; 1e-9
-#: stalled. 1e-7 keeps a margin above that floor.
+#: engine node re-converges its own match at each iteration, to its own tolerance; 1e-9 stalled (measured with the
+#: matches started from the design point; they now start from their last solution). 1e-7 keeps a margin.
 NEWTON_ATOL = 1e-7
 NEWTON_RTOL = 1e-14
 NEWTON_MAXITER = 20
@@ -159,6 +176,7 @@ class DemoTwinMission(om.Group):
         data.add_output("ac|aero|polar|e", OSWALD)
         data.add_output("ac|weights|empty_no_engines", EMPTY_MASS_NO_ENGINES, units="kg")
         data.add_output("ac|weights|payload", PAYLOAD, units="kg")
+        data.add_output("ac|propulsion|engine|Tt41_min_rating", TT41_IDLE, units="K")
         for name, (start, *_) in DESIGN_VARIABLES.items():
             data.add_output(f"ac|propulsion|engine|{name}", start)
 
@@ -297,7 +315,12 @@ def breguet_estimate(prob):
 
 
 def flown_summary(prob):
-    """Fuel, distance, mean installed TSFC and mean L/D of each flown phase (from the mission's nodes)."""
+    """Fuel, distance, mean installed TSFC and mean L/D of each flown phase (from the mission's nodes).
+
+    Also the engine's range at the phase's nodes: altitudes, throttles and Tt41 (first and last node), and the
+    smallest LPT expansion ratio and core nozzle pressure ratio (the map-free match needs the first above about
+    1.85 and the second above 1; ``OffDesignGroup``).
+    """
     out = {}
     start = 0.0
     for phase in ("climb", "cruise", "descent"):
@@ -312,6 +335,13 @@ def flown_summary(prob):
                       "TSFC": float(np.mean(flow / thrust)), "L/D": float(np.mean(weight / drag)),
                       "mass_start": float(weight[0] / G0), "mass_end": float(weight[-1] / G0),
                       "speed": float(np.mean(prob.get_val(f"{p}.fltcond|Utrue", units="m/s")))}
+        node = f"{p}.engine.off_design."
+        h, throttle = prob.get_val(f"{p}.fltcond|h", units="m"), prob.get_val(f"{p}.throttle")
+        tt41 = prob.get_val(f"{p}.engine.engine:Tt41", units="K")
+        out[phase].update(altitude=(float(h[0]), float(h[-1])), throttle=(float(throttle[0]), float(throttle[-1])),
+                          Tt41=(float(tt41[0]), float(tt41[-1])),
+                          lpt_expansion=float(np.min(prob.get_val(node + "Pt45") / prob.get_val(node + "Pt5"))),
+                          core_nozzle_pr=float(np.min(prob.get_val(node + "Pt7") / prob.get_val(node + "Ps0"))))
         start = fuel_end
     return out
 
@@ -334,11 +364,16 @@ def report(prob, timings=None):
         print(f"  {LIMITS[name][4]:36s} {value:10.4f} vs {limit:8.2f} {LIMITS[name][3]:2s} {flag}")
     flown = flown_summary(prob)
     total = sum(p["fuel"] for p in flown.values())
-    print(f"Flown mission ({TERMINAL_ALTITUDE / 1e3:.0f} km -> {CRUISE_ALTITUDE:.0f} m -> "
-          f"{TERMINAL_ALTITUDE / 1e3:.0f} km, {DESIGN_RANGE / 1e3:.0f} km): {total:.0f} kg")
+    print(f"Flown mission ({TERMINAL_ALTITUDE:.0f} m -> {CRUISE_ALTITUDE:.0f} m -> "
+          f"{TERMINAL_ALTITUDE:.0f} m, {DESIGN_RANGE / 1e3:.0f} km): {total:.0f} kg")
     for phase, p in flown.items():
         print(f"  {phase:8s} {p['fuel']:8.0f} kg over {p['distance'] / 1e3:7.0f} km, installed TSFC "
               f"{p['TSFC'] * 1e6:.2f} mg/(N s), L/D {p['L/D']:.2f}")
+    print("Engine at the nodes (first -> last node; smallest LPT expansion ratio and core nozzle pressure ratio):")
+    for phase, p in flown.items():
+        print(f"  {phase:8s} {p['altitude'][0]:6.0f} -> {p['altitude'][1]:6.0f} m, throttle {p['throttle'][0]:.3f} -> "
+              f"{p['throttle'][1]:.3f}, Tt41 {p['Tt41'][0]:.0f} -> {p['Tt41'][1]:.0f} K, LPT {p['lpt_expansion']:.2f}, "
+              f"core nozzle {p['core_nozzle_pr']:.3f}")
     b = breguet_estimate(prob)
     c = flown["cruise"]
     print(f"Plugin's Breguet estimate (MissionFuelComp): mission fuel {b['mission_fuel']:.0f} kg = cruise "
@@ -365,7 +400,7 @@ def report(prob, timings=None):
     print(f"    {c['fuel']:8.0f} kg  flown cruise (OpenConcept's Simpson integration of the engine's fuel flow)")
     outside = flown["climb"]["fuel"] + flown["descent"]["fuel"]
     print(f"  Outside cruise: {b['mission_fuel'] - b['cruise_fuel']:.0f} kg of fractions (ground to ground) vs "
-          f"{outside:.0f} kg flown (climb and descent above {TERMINAL_ALTITUDE / 1e3:.0f} km only)")
+          f"{outside:.0f} kg flown (climb and descent above {TERMINAL_ALTITUDE:.0f} m only)")
     if timings:
         print("Times: " + ", ".join(f"{k} {v:.1f} s" for k, v in timings.items()))
     return {"flown": flown, "breguet": b, "breguet_flown_cruise": same, "mission_fuel": total}

@@ -131,14 +131,23 @@ def test_aircraft_totals_count_engines():
 
 
 def test_node_without_operating_point_raises():
-    """A throttle the map-free match cannot reach (low power near the ground) raises an AnalysisError, not NaN."""
+    """A rating below the map-free match's lowest power raises an AnalysisError naming the cause, not NaN.
+
+    Throttle 0 on an 850 K rating at sea level, M 0.3: the match's lowest power there is about Tt41 = 950 K
+    (the core nozzle pressure ratio falls to 1, and Tt4 reaches the burner's 1000 K; ``OffDesignGroup``,
+    measured), so neither the design start nor the continuation finds an operating point. The default rating's
+    throttle 0 (1150 K) is an operating point there.
+    """
     prob = om.Problem(reports=False)
     prob.model.add_subsystem("phase", TurbofanPropulsionSystem(num_nodes=1), promotes=["*"])
     prob.setup()
     prob.set_val("fltcond|h", 0.0)
     prob.set_val("fltcond|M", 0.3)
     prob.set_val("throttle", 0.0)
-    with pytest.raises(om.AnalysisError):
+    prob.run_model()
+    assert prob.get_val("thrust")[0] > 0.0
+    prob.set_val(RATING[0], 850.0)
+    with pytest.raises(om.AnalysisError, match="Continuation in Tt41_required from the corrected design point"):
         prob.run_model()
 
 
@@ -217,3 +226,34 @@ def test_example_totals_match_complex_step(example):
                              wrt=[f"ac|propulsion|engine|{k}" for k in module.DESIGN_VARIABLES], method="cs",
                              out_stream=None)
     assert_check_totals(data, atol=TOTALS_TOL, rtol=TOTALS_TOL)
+
+
+# Choked-vane validity of the map-free match: turbine expansion ratios above about 1.85 (OffDesignGroup docstring).
+CHOKED_VANE_RATIO = 1.85
+# The framework's throttle balance bounds (OpenConcept 1.2.6, mission/phases.py).
+THROTTLE_BOUNDS = (0.01, 1.05)
+# Descent end: OpenConcept's descent duration balances the final altitude to takeoff|h (its Newton's tolerance).
+ALTITUDE_ATOL = 0.1
+
+
+def test_example_flies_the_full_mission_with_the_engine_at_every_node(example):
+    """At the optimum the aircraft climbs from 1500 ft, cruises, descends to 1500 ft, its engine matched at each node.
+
+    Every node of the three phases is an off-design match of the sized engine inside the map-free method's range:
+    throttle strictly inside the framework's balance bounds (so no node sits on a bound), Tt41 at least the idle
+    rating, both turbines' expansion ratios above 1.85 (vanes choked) and the core stream above ambient pressure.
+    """
+    module, prob, _ = example
+    g = prob.get_val
+    assert g("mission.climb.fltcond|h", units="m")[0] == pytest.approx(module.TERMINAL_ALTITUDE)
+    assert g("mission.climb.fltcond|h", units="m")[-1] == pytest.approx(module.CRUISE_ALTITUDE, abs=ALTITUDE_ATOL)
+    assert g("mission.descent.fltcond|h", units="m")[-1] == pytest.approx(module.TERMINAL_ALTITUDE, abs=ALTITUDE_ATOL)
+    for phase in ("climb", "cruise", "descent"):
+        node = f"mission.{phase}.engine.off_design."
+        throttle = g(f"mission.{phase}.throttle")
+        assert np.all((throttle > THROTTLE_BOUNDS[0]) & (throttle < THROTTLE_BOUNDS[1])), (phase, throttle)
+        assert np.all(g(f"mission.{phase}.engine.engine:Tt41", units="K") >= module.TT41_IDLE), phase
+        assert np.all(g(node + "Pt45") / g(node + "Pt5") > CHOKED_VANE_RATIO), phase
+        assert np.all(g(node + "Pt41") / g(node + "Pt44") > CHOKED_VANE_RATIO), phase
+        assert np.all(g(node + "Pt7") > g(node + "Ps0")), phase
+    assert np.min(g("mission.descent.throttle")) < 0.1  # the descent does reach low power near the ground

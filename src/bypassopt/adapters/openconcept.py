@@ -306,15 +306,19 @@ class TurbofanPropulsionSystem(om.Group):
     Per-engine values stay reachable by path: ``engine.engine:Tt41``, ``engine.engine:installed_thrust``,
     ``engine.engine:nacelle_drag``, ``engine.off_design.Pt3``. The engine computes its own atmosphere from
     ``fltcond|h``; OpenConcept's atmosphere smooths the tropopause between 10.5 and 11.5 km, so the two differ
-    slightly there (the engine's is ISO 2533). Raises ``om.AnalysisError`` where a node cannot be matched
-    (``OffDesignGroup``: at low power and low altitude the map-free match has no operating point; on the demo
-    engine a descent below about 8 km cannot be flown).
+    slightly there (the engine's is ISO 2533). The engine starts each match from its last converged one
+    (``FlightNodeEngineGroup`` option ``warm_start``), and low power near the ground is reached by the
+    match's continuation (``OffDesignGroup``); a node below the match's lowest power (about Tt41 = 945 K on the
+    demo engine: the burner's range at altitude, the core nozzle pressure ratio near the ground) raises
+    ``om.AnalysisError``. A descent whose thrust is below that of ``Tt41_min_rating`` needs a lower rating
+    (the example's 1000 K) or a shallower descent: the framework's throttle cannot go below 0.
 
     Inside a framework's Newton solver: the solver's first ``guess_nonlinear`` reaches the engine before any
     upstream output exists, so give the phase's ``fltcond|M`` and ``throttle`` start values inside the match's
     range (OpenConcept's defaults are Mach 1 and throttle 0.5), and use a line search that does not judge the
     residual on its first trial (``om.BoundsEnforceLS``): with ``solve_subsystems`` that trial sees every engine
-    node's stale inner states and cuts good steps. A 5-node phase solves in about 0.2-0.4 s.
+    node's stale inner states and cuts good steps. A 5-node phase solves in about 0.2-0.4 s from its last
+    solution; a first solve at low power near the ground, where the match needs its continuation, a few seconds.
     """
 
     def initialize(self):
@@ -337,7 +341,8 @@ class TurbofanPropulsionSystem(om.Group):
         inputs += [(k, f"{NACELLE_AC}{k}") for k in NACELLE_GEOMETRY]
         inputs += [(k, f"{INSTALLATION}{k}") for k in DRAG_INSTALLATION_INPUTS]
         self.add_subsystem("engine", FlightNodeEngineGroup(num_flight_nodes=nn, power_setting="throttle",
-                                                           prefix="engine:"), promotes_inputs=inputs)
+                                                           prefix="engine:", warm_start=True),
+                           promotes_inputs=inputs)
 
         totals = AircraftTotalsComp(num_nodes=nn, num_engines=self.options["num_engines"], quantities={
             "thrust": ("installed_thrust", "N", "installed net thrust (nacelle drag booked as a thrust debit)"),
