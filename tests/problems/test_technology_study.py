@@ -2,7 +2,7 @@
 
 import pytest
 
-from bypassopt.problems.technology_study import CASES, EFFECTS, build_effects_problem, format_effects
+from bypassopt.problems.technology_study import CASES, build_effects_problem, format_effects
 from bypassopt.scenario import design_point_scenario, load_scenario
 
 #: Computed efficiency -> its technology level, and the effect that moves it.
