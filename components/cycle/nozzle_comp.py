@@ -10,6 +10,9 @@ from bypassopt.components.validation import InputRangeError, check_range, first_
 from bypassopt.components.options import declare_gas, declare_num_nodes
 
 _PREFIX = {"core": "core_nozzle", "bypass": "bypass_nozzle"}
+#: Smallest nozzle pressure ratio above 1 accepted: the jet velocity's derivatives grow as 1/sqrt(NPR - 1) and
+#: are 0/0 (NaN) at NPR = 1 to round-off, so a stream this close to ambient is refused with a clear error.
+NPR_MIN_EXCESS = 1e-9
 
 
 class NozzleComp(om.ExplicitComponent):
@@ -204,7 +207,7 @@ class NozzleComp(om.ExplicitComponent):
             check_range(n[k], inputs[n[k]], **range_kwargs(n[k], 0.0, 1.0, lower_inclusive=False), where=where)
         Pt, Ps0 = np.real(inputs[n["Pt"]]), np.real(inputs["Ps0"])
         npr = Pt / Ps0
-        bad = npr <= 1.0
+        bad = npr <= 1.0 + NPR_MIN_EXCESS
         if np.any(bad):
             i, node = first_bad_node(bad)
             raise InputRangeError(f"{where}: nozzle pressure ratio Pt/Ps0 = {npr[i]:.6g} is not above 1: "
