@@ -83,7 +83,7 @@ class BestCycleSettings:
             object.__setattr__(self, "objective_output", objective_output(self.objective, self.scenario))
 
 
-def _problem(model, reports):
+def _problem(model, reports, comm=None):
     """Problem whose model holds the engine group as subsystem ``engine``, every variable promoted.
 
     The engine's coupled Newton solver then works on the engine's variables only: as the root model its direct
@@ -91,7 +91,8 @@ def _problem(model, reports):
     """
     root = om.Group()
     root.add_subsystem("engine", model, promotes=["*"])
-    return om.Problem(root) if reports is OPENMDAO_DEFAULT else om.Problem(root, reports=reports)
+    kwargs = {} if comm is None else {"comm": comm}
+    return om.Problem(root, **kwargs) if reports is OPENMDAO_DEFAULT else om.Problem(root, reports=reports, **kwargs)
 
 
 def apply_scenario(prob, scenario, skip=(), prefix=""):
@@ -153,7 +154,8 @@ def build_evaluation_problem(scenario=None, num_nodes=1, design=None, reports=OP
 
 
 def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorder_path=None,
-                             reports=OPENMDAO_DEFAULT, force_alloc_complex=False, limit_takeoff_mass=None):
+                             reports=OPENMDAO_DEFAULT, force_alloc_complex=False, limit_takeoff_mass=None,
+                             comm=None):
     """Ready best-installed-cycle optimisation problem (set up, scenario applied, not run), and its settings.
 
     Minimises ``mission_fuel`` (or the installed TSFC) over the design variables the scenario marks
@@ -182,6 +184,9 @@ def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorde
         Add the constraint take-off mass <= maximum take-off mass (``mtow_margin`` >= 0). None takes the
         scenario's ``limits.enforce_max_takeoff_mass``, False when the scenario has no such key; without it
         the take-off mass is only reported (and flagged in the summary when above the maximum).
+    comm : MPI communicator or None
+        Communicator of the problem (OpenMDAO's default when None: every process of an ``mpiexec`` run); a study
+        that runs one optimisation per process passes a one-process communicator (``problems.multistart``).
 
     Returns
     -------
@@ -195,7 +200,7 @@ def build_best_cycle_problem(scenario=None, objective=None, driver=None, recorde
     objective = objective or opt["objective"]
     if objective not in OBJECTIVES:
         raise ScenarioError(f"objective {objective!r} is not one of {', '.join(OBJECTIVES)}")
-    prob = _problem(build_installed_model(scenario), reports)
+    prob = _problem(build_installed_model(scenario), reports, comm)
     prob.driver = make_driver(driver or opt["driver"], opt["maxiter"], opt["tol"])
     model = prob.model
     free = []

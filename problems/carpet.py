@@ -6,6 +6,7 @@ import openmdao.api as om
 from bypassopt.problems.best_cycle import (GEOMETRY_CONSTRAINTS, OBJECTIVES, apply_scenario, build_installed_model,
                                           objective_output)
 from bypassopt.problems.drivers import BackOffSLSQPDriver
+from bypassopt.problems.parallel_cases import run_cases, self_comm, world_comm
 from bypassopt.scenario import ScenarioError, constraint_limits, load_scenario
 
 #: Jet velocity ratio V18/V8 the starting FPR of the 'optimal' mode aims at (near the installed optimum,
@@ -104,16 +105,17 @@ def carpet_limits(scenario):
 class _BatchEvaluator:
     """Vectorized evaluation of many designs; a batch that raises is bisected to find the failing designs."""
 
-    def __init__(self, scenario, outputs):
+    def __init__(self, scenario, outputs, comm=None):
         self.scenario = scenario
         self.outputs = outputs
+        self.comm = comm
         self._problems = {}
         self.model_runs = 0
 
     def _problem(self, n):
         """(problem with n nodes, whether it is freshly set up); one problem per size is reused."""
         if n not in self._problems:
-            prob = om.Problem(CarpetModelGroup(scenario=self.scenario, num_nodes=n), reports=False)
+            prob = om.Problem(CarpetModelGroup(scenario=self.scenario, num_nodes=n), reports=False, comm=self.comm)
             prob.setup()
             apply_scenario(prob, self.scenario)
             self._problems[n] = prob
@@ -202,12 +204,13 @@ def _secant_start(prob, fpr, lower, upper):
     return x1
 
 
-def _optimise_fpr(scenario, objective, bpr, opr, fpr_start, progress_step):
+def _optimise_fpr(scenario, objective, bpr, opr, fpr_start, progress_step, comm=None):
     """Optimise FPR at every design of (bpr, opr) at once: min sum of objectives, FPR within bounds."""
     n = len(bpr)
     lower, upper = _fpr_bounds(scenario)
     opt = scenario["optimizer"]
-    prob = om.Problem(CarpetModelGroup(scenario=scenario, num_nodes=n, objective=objective), reports=False)
+    prob = om.Problem(CarpetModelGroup(scenario=scenario, num_nodes=n, objective=objective), reports=False,
+                      comm=comm)
     prob.driver = BackOffSLSQPDriver(maxiter=opt["maxiter"], tol=opt["tol"], disp=False)
     prob.model.add_design_var("FPR", lower=lower, upper=upper, ref0=lower, ref=upper)
     _, _, ref = OBJECTIVES[objective]
@@ -235,7 +238,102 @@ def _optimise_fpr(scenario, objective, bpr, opr, fpr_start, progress_step):
     return prob, fpr, info
 
 
-def run_carpet(scenario=None, bpr_values=None, opr_values=None, fpr_mode=None, fixed_fpr=None, progress=None):
+def _carpet_block(scenario, objective, outputs, bpr, opr, fpr_mode, fixed_fpr, step, comm):
+    """Carpet values of the designs (bpr, opr) (1-D), computed from scratch as one vectorized case.
+
+    Returns (values {output: array}, ok mask, FPR (NaN where failed), FPR optimisation summary or None, model runs,
+    indices of the designs whose FPR was optimised or None).
+    """
+    lower, _ = _fpr_bounds(scenario)
+    evaluator = _BatchEvaluator(scenario, outputs, comm)
+    fpr_info = idx = None
+
+    if fpr_mode == "fixed":
+        fpr = np.full(bpr.size, float(fixed_fpr))
+        step(f"evaluating {bpr.size} designs at FPR {fixed_fpr:g}")
+        values, ok = evaluator.evaluate({"BPR": bpr, "OPR": opr, "FPR": fpr})
+    else:
+        start = np.full(bpr.size, lower)
+        step(f"screening {bpr.size} designs at the lowest FPR {lower:g}")
+        _, ok = evaluator.evaluate({"BPR": bpr, "OPR": opr, "FPR": start})
+        fpr = np.full(bpr.size, np.nan)
+        values = {name: np.full(bpr.size, np.nan) for name in outputs}
+        idx = np.flatnonzero(ok)
+        if idx.size:
+            step(f"starting FPR of {idx.size} designs near jet velocity ratio {START_JET_VELOCITY_RATIO:g}")
+            prob, fpr_opt, fpr_info = _optimise_fpr(scenario, objective, bpr[idx], opr[idx], start[idx], step,
+                                                          comm)
+            fpr[idx] = fpr_opt
+            if prob is not None:
+                for name, units in outputs.items():
+                    values[name][idx] = prob.get_val(name, units=units)
+            else:
+                sub, ok[idx] = evaluator.evaluate({"BPR": bpr[idx], "OPR": opr[idx], "FPR": fpr_opt})
+                for name in outputs:
+                    values[name][idx] = sub[name]
+        else:
+            step("no design could be evaluated")
+            step("no design could be evaluated")
+
+    fpr = np.where(ok, fpr, np.nan)
+    return values, ok, fpr, fpr_info, evaluator.model_runs, idx
+
+
+#: FPR optimisation summary numbers packed per case: name -> how the cases' values combine.
+_FPR_INFO_SUMS = ("iterations", "model_evaluations", "failed_evaluations")
+
+
+def _carpet_cases(scenario, objective, outputs, bpr, opr, fpr_mode, fixed_fpr, per_case, num_cases, comm):
+    """Compute the carpet in ``num_cases`` cases of ``per_case`` designs (``run_cases``); return as _carpet_block."""
+    names = list(outputs)
+    n = bpr.size
+    # per case: every output, ok, FPR, start FPR (per design), then model runs, has-summary, success, the sums
+    width = (len(names) + 3) * per_case + 3 + len(_FPR_INFO_SUMS)
+
+    def run_case(k, case_comm):
+        idx = np.arange(k * per_case, min((k + 1) * per_case, n))
+        values, ok, fpr, info, runs, optimised = _carpet_block(scenario, objective, outputs, bpr[idx], opr[idx],
+                                                               fpr_mode, fixed_fpr, lambda message: None,
+                                                               self_comm(case_comm))
+        packed = np.full(width, np.nan)
+        start = np.full(idx.size, np.nan)
+        if info:
+            start[optimised] = info["start_FPR"]
+        cols = [values[name] for name in names] + [ok.astype(float), fpr, start]
+        for c, col in enumerate(cols):
+            packed[c * per_case:c * per_case + idx.size] = col
+        tail = [runs, info is not None, bool(info and info["success"])]
+        tail += [info[key] if info else 0 for key in _FPR_INFO_SUMS]
+        packed[len(cols) * per_case:] = tail
+        return packed
+
+    table = run_cases(run_case, num_cases, width, comm=comm)
+    values = {name: np.empty(n) for name in names}
+    ok, fpr, start = np.zeros(n, dtype=bool), np.empty(n), np.empty(n)
+    for k, row in enumerate(table):
+        idx = np.arange(k * per_case, min((k + 1) * per_case, n))
+        for c, name in enumerate(names):
+            values[name][idx] = row[c * per_case:c * per_case + idx.size]
+        c = len(names)
+        ok[idx] = row[c * per_case:c * per_case + idx.size] > 0.5
+        fpr[idx] = row[(c + 1) * per_case:(c + 1) * per_case + idx.size]
+        start[idx] = row[(c + 2) * per_case:(c + 2) * per_case + idx.size]
+    tails = table[:, (len(names) + 3) * per_case:]
+    model_runs = int(np.sum(tails[:, 0]))
+    fpr_info = None
+    optimised = tails[:, 1] > 0.5
+    if np.any(optimised):
+        converged = int(np.sum(tails[optimised, 2] > 0.5))
+        fpr_info = {"success": converged == int(np.sum(optimised)),
+                    "message": f"{converged} of {int(np.sum(optimised))} cases converged",
+                    "start_FPR": start[np.isfinite(start)]}
+        for j, key in enumerate(_FPR_INFO_SUMS):
+            fpr_info[key] = int(np.sum(tails[optimised, 3 + j]))
+    return values, ok, fpr, fpr_info, model_runs
+
+
+def run_carpet(scenario=None, bpr_values=None, opr_values=None, fpr_mode=None, fixed_fpr=None, progress=None,
+               designs_per_case=None, comm=None):
     """Installed objective and constraint margins over a BPR x OPR grid, evaluated as one vectorized model.
 
     Every grid point is a node of one ``InstalledEngineGroup(num_nodes=N)``, so each model run evaluates
@@ -261,6 +359,15 @@ def run_carpet(scenario=None, bpr_values=None, opr_values=None, fpr_mode=None, f
         FPR of the 'fixed' mode; None takes the scenario's initial FPR.
     progress : callable or None
         ``progress(done, total, message)`` called as the stages finish.
+    designs_per_case : int or None
+        None (default): the whole grid is one vectorized case. A number splits the grid (in row-major order,
+        OPR rows of BPR columns) into cases of at most that many designs, each computed from scratch as above
+        (``_carpet_block``) and driven by ``om.DOEDriver``: under MPI (``mpiexec -n N``) with
+        ``run_parallel=True``, case k on process k % N (``parallel_cases.run_cases``). The result is the same
+        for any number of processes (each case starts from scratch), and equals the one-case carpet to the
+        solvers' tolerances (the designs of a vectorized case share its Newton iterations).
+    comm : MPI communicator or None
+        Processes that share the cases; None takes every process of an ``mpiexec`` run (none outside MPI).
 
     Returns
     -------
@@ -273,7 +380,8 @@ def run_carpet(scenario=None, bpr_values=None, opr_values=None, fpr_mode=None, f
         point); ``meets_limits`` (feasible and every margin >= 0); ``optimum`` (grid point of least
         objective meeting all limits: BPR, OPR, FPR, objective, index; None if there is none);
         ``bpr_values``, ``opr_values``, ``fpr_mode``, ``T4`` (K), ``scenario``, ``units``,
-        ``fpr_optimisation`` (driver summary, 'optimal' mode) and ``model_runs``.
+        ``fpr_optimisation`` (driver summary, 'optimal' mode; summed over the cases), ``model_runs``,
+        ``designs_per_case`` and ``cases``. Every process gets the whole result.
     """
     scenario = scenario or load_scenario()
     carpet = scenario.get("carpet", {})
@@ -308,36 +416,22 @@ def run_carpet(scenario=None, bpr_values=None, opr_values=None, fpr_mode=None, f
     outputs[obj_out] = obj_units
     for var, lim in carpet_limits(scenario).items():  # the take-off limits of the multipoint model
         outputs.setdefault(var, lim["units"])
-    evaluator = _BatchEvaluator(scenario, outputs)
-    fpr_info = None
-
-    if fpr_mode == "fixed":
-        fpr = np.full(bpr.size, float(fixed_fpr))
-        step(f"evaluating {bpr.size} designs at FPR {fixed_fpr:g}")
-        values, ok = evaluator.evaluate({"BPR": bpr, "OPR": opr, "FPR": fpr})
+    if designs_per_case is not None and designs_per_case < 1:
+        raise ScenarioError(f"designs_per_case = {designs_per_case} must be at least 1.")
+    per_case = bpr.size if designs_per_case is None else min(int(designs_per_case), bpr.size)
+    num_cases = -(-bpr.size // per_case)
+    if num_cases == 1:  # one vectorized block on this process (every process under MPI)
+        values, ok, fpr, fpr_info, model_runs, _ = _carpet_block(
+            scenario, objective, outputs, bpr, opr, fpr_mode, fixed_fpr, step, self_comm(None))
     else:
-        start = np.full(bpr.size, lower)
-        step(f"screening {bpr.size} designs at the lowest FPR {lower:g}")
-        _, ok = evaluator.evaluate({"BPR": bpr, "OPR": opr, "FPR": start})
-        fpr = np.full(bpr.size, np.nan)
-        values = {name: np.full(bpr.size, np.nan) for name in outputs}
-        idx = np.flatnonzero(ok)
-        if idx.size:
-            step(f"starting FPR of {idx.size} designs near jet velocity ratio {START_JET_VELOCITY_RATIO:g}")
-            prob, fpr_opt, fpr_info = _optimise_fpr(scenario, objective, bpr[idx], opr[idx], start[idx], step)
-            fpr[idx] = fpr_opt
-            if prob is not None:
-                for name, units in outputs.items():
-                    values[name][idx] = prob.get_val(name, units=units)
-            else:
-                sub, ok[idx] = evaluator.evaluate({"BPR": bpr[idx], "OPR": opr[idx], "FPR": fpr_opt})
-                for name in outputs:
-                    values[name][idx] = sub[name]
-        else:
-            step("no design could be evaluated")
-            step("no design could be evaluated")
+        total = 2
+        comm = comm if comm is not None else world_comm()
+        nprocs = 1 if comm is None else comm.size
+        step(f"evaluating {bpr.size} designs in {num_cases} cases of up to {per_case} on {nprocs} process"
+             f"{'es' if nprocs > 1 else ''}")
+        values, ok, fpr, fpr_info, model_runs = _carpet_cases(
+            scenario, objective, outputs, bpr, opr, fpr_mode, fixed_fpr, per_case, num_cases, comm)
 
-    fpr = np.where(ok, fpr, np.nan)
     limits = carpet_limits(scenario)
     margins = {}
     meets = ok.copy()
@@ -376,7 +470,9 @@ def run_carpet(scenario=None, bpr_values=None, opr_values=None, fpr_mode=None, f
         "optimum": optimum,
         "units": dict(outputs, BPR=None, OPR=None, FPR=None, T4="K"),
         "fpr_optimisation": fpr_info,
-        "model_runs": evaluator.model_runs,
+        "model_runs": model_runs,
+        "designs_per_case": per_case,
+        "cases": num_cases,
     }
     for name in outputs:
         result[name] = values[name].reshape(shape)

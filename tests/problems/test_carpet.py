@@ -210,3 +210,44 @@ def test_multipoint_carpet_has_the_takeoff_limits():
     prob = point_problem(scenario, 11.0, 30.0, 1.55)
     for name, units in (("takeoff:Tt41", "K"), ("mission_fuel", "kg")):
         np.testing.assert_allclose(result[name][0, 1], prob.get_val(name, units=units)[0], rtol=1e-8)
+
+
+# The same grid as cases of 2 designs (parallel_cases: what mpiexec shares out; tests/mpi checks the parallel run).
+DESIGNS_PER_CASE = 2
+# A case's designs share its Newton iterations: the cases differ from the one-case carpet by the solvers' tolerance.
+CASES_RTOL = 1e-8
+
+
+@pytest.fixture(scope="module")
+def fixed_carpet_in_cases(scenario):
+    """The fixed-FPR carpet evaluated as 3 cases of 2 designs (om.DOEDriver over the cases)."""
+    return run_carpet(scenario, BPR_VALUES, OPR_VALUES, fpr_mode="fixed", fixed_fpr=FIXED_FPR,
+                      designs_per_case=DESIGNS_PER_CASE)
+
+
+def test_carpet_in_cases_equals_point_by_point_and_the_one_case_carpet(fixed_carpet_in_cases, fixed_carpet,
+                                                                         scenario):
+    """Cases of 2 designs: the point-by-point values (1e-10), the one-case carpet's mask and values, one optimum."""
+    result, (one, _) = fixed_carpet_in_cases, fixed_carpet
+    assert (result["cases"], result["designs_per_case"]) == (3, DESIGNS_PER_CASE)
+    assert_matches_point_by_point(result, scenario, [(0, 0), (1, 1), (0, 2)])
+    np.testing.assert_array_equal(result["feasible"], one["feasible"])
+    np.testing.assert_array_equal(result["meets_limits"], one["meets_limits"])
+    for name in ["objective", "FPR", *CARPET_OUTPUTS]:
+        np.testing.assert_allclose(result[name], one[name], rtol=CASES_RTOL, atol=1e-12, err_msg=name)
+    assert result["optimum"]["index"] == one["optimum"]["index"]
+
+
+def test_optimal_carpet_in_cases_finds_each_points_fpr(scenario, optimal_carpet):
+    """'optimal' mode in cases: every case optimises its own designs' FPR; the same optima as the one-case carpet."""
+    result = run_carpet(scenario, BPR_VALUES, OPR_VALUES, fpr_mode="optimal", designs_per_case=4)
+    assert result["cases"] == 2 and result["fpr_optimisation"]["success"]
+    np.testing.assert_array_equal(result["feasible"], optimal_carpet["feasible"])
+    ok = result["feasible"]
+    # each point's optimum, reached by two differently batched SLSQP runs (tolerance 1e-8 on the summed objective)
+    np.testing.assert_allclose(result["objective"][ok], optimal_carpet["objective"][ok], rtol=1e-7)
+
+
+def test_designs_per_case_must_be_positive(scenario):
+    with pytest.raises(ScenarioError, match="designs_per_case"):
+        run_carpet(scenario, BPR_VALUES, OPR_VALUES, fpr_mode="fixed", designs_per_case=0)
