@@ -20,6 +20,7 @@ import warnings
 
 from bypassopt import CAUTION
 from bypassopt.commands import COMMANDS, OUTPUTS, build_parser
+from bypassopt.commands._mpi import is_worker_process, run_worker
 from bypassopt.commands._run import (DEFAULT_OUT, EXIT_BAD_INPUT, EXIT_NOT_CONVERGED, EXIT_OK, EXIT_UNEXPECTED,
                                      NotConverged, ProgressDisplay, Run, UsageError, emit_json, interrupt_signal,
                                      one_line, terminate_as_interrupt)
@@ -49,6 +50,8 @@ def main(argv=None):
               file=sys.stderr)
         return EXIT_BAD_INPUT
 
+    if is_worker_process():  # under mpiexec, a process other than 0 only computes its share (commands/_mpi.py)
+        return run_worker(args)
     run = Run(args, OUTPUTS[args.command], argv=sys.argv[1:] if argv is None else argv)
     try:
         with terminate_as_interrupt():

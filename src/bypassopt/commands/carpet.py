@@ -1,5 +1,7 @@
 """``bypassopt carpet``: the scenario's BPR x OPR carpet, as a table, files and a plot."""
 
+import argparse
+import functools
 import math
 
 from bypassopt import CAUTION
@@ -15,18 +17,44 @@ def add_parser(sub, common):
                        description="Evaluate the scenario's BPR x OPR carpet ([carpet] section) and plot it. "
                                    "Writes carpet.json, carpet.csv and carpet.png.")
     p.add_argument("--no-plots", action="store_true", help="skip carpet.png")
+    p.add_argument("--designs-per-case", type=positive_int, metavar="M",
+                   help="split the grid into cases of at most M designs, each evaluated from scratch; under "
+                        "'mpiexec -n N' the cases are shared by the N processes (process 0 writes the files), and "
+                        "any N gives the same files (default: the whole grid in one vectorized case)")
     return p
+
+
+def positive_int(text):
+    """Argument type: an integer of at least 1."""
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"{text!r} is not at least 1")
+    return value
+
+
+def _study(args):
+    """Return the carpet function with the command's options (the same on every process of an mpiexec run)."""
+    (run_carpet,) = require("bypassopt.problems.carpet", ("run_carpet",), "the carpet command")
+    return functools.partial(run_carpet, designs_per_case=getattr(args, "designs_per_case", None))
 
 
 def run(run, scenario):
     """Evaluate and plot the carpet; return (data, exit code)."""
-    (run_carpet,) = require("bypassopt.problems.carpet", ("run_carpet",), "the carpet command")
+    study = _study(run.args)
     plot_carpet = None
     if not run.args.no_plots:
         require_matplotlib("carpet.png")
         (plot_carpet,) = require("bypassopt.plots", ("plot_carpet",), "carpet.png (or add --no-plots)")
-    data, _ = run_study(run, scenario, NAME, run_carpet, plot_carpet, carpet_rows, carpet_blocks)
+    data, _ = run_study(run, scenario, NAME, study, plot_carpet, carpet_rows, carpet_blocks)
     return data, EXIT_OK
+
+
+def worker(args, scenario):
+    """Take part in the carpet's cases on a process other than 0 of an mpiexec run (``commands._mpi``)."""
+    _study(args)(scenario)
 
 
 def carpet_rows(result):
