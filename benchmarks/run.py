@@ -18,7 +18,7 @@ from benchmarks import REPO_ROOT
 
 #: Benchmark modules (``benchmarks/benchmark_<name>.py``), run in this order.
 BENCHMARKS = ("gradient_accuracy", "derivative_cost", "optimization_cost", "vectorized_scaling", "optimizers",
-              "off_design", "multipoint", "framework_overhead", "speed")
+              "off_design", "multipoint", "framework_overhead", "speed", "mpi")
 #: Default result folders of the full and the quick run.
 RESULTS_DIR = REPO_ROOT / "benchmarks" / "results"
 QUICK_RESULTS_DIR = RESULTS_DIR / "quick"

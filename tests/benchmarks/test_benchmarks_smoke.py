@@ -17,7 +17,7 @@ if str(ROOT) not in sys.path:  # benchmarks/ is not installed: import it from th
     sys.path.append(str(ROOT))
 
 NAMES = ("gradient_accuracy", "derivative_cost", "optimization_cost", "vectorized_scaling", "optimizers", "off_design",
-         "multipoint", "framework_overhead", "speed")
+         "multipoint", "framework_overhead", "speed", "mpi")
 RUNNER_TIMEOUT_S = 600
 
 

@@ -94,3 +94,31 @@ def test_multipoint_multistart():
     assert all(np.isnan(s["objective"]) and not s["feasible"] for s in failed)
     assert result["spread"]["converged"] == result["spread"]["agree"] == 2 - len(failed) >= 1
     assert result["best"]["feasible"] and result["best"]["violation"] <= FEASIBILITY_TOL
+
+
+SCENARIO_TOML = """\
+[design_variables.Tt4_K]
+initial = 1650.0
+lower = 1400.0
+upper = 1850.0
+optimize = false
+"""
+
+
+def test_multistart_command_writes_its_files(tmp_path):
+    """``bypassopt multistart``: exit 0, multistart.json (best, spread, every start) and one CSV row per start."""
+    import csv
+    import json
+
+    from bypassopt.cli import main
+
+    path = tmp_path / "scenario.toml"
+    path.write_text(SCENARIO_TOML)
+    out = tmp_path / "res"
+    assert main(["multistart", "--scenario", str(path), "--model", "design_point", "--starts", "2", "--seed", "4",
+                 "--out", str(out), "--quiet"]) == 0
+    data = json.loads((out / "multistart.json").read_text())
+    assert data["num_starts"] == 2 and data["seed"] == 4 and data["best"]["feasible"]
+    with open(out / "multistart.csv", newline="", encoding="utf-8") as fh:
+        rows = list(csv.DictReader(line for line in fh if not line.startswith("#")))
+    assert [r["start"] for r in rows] == ["0", "1"] and {"start_BPR", "final_BPR", "objective"} <= set(rows[0])

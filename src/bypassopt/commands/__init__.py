@@ -5,11 +5,13 @@
 """
 
 from bypassopt import CAUTION, __version__
-from bypassopt.commands import carpet, check_derivatives, evaluate, optimize, reengine, scenario, trade
+from bypassopt.commands import (carpet, check_derivatives, evaluate, multistart, optimize, reengine, scenario,
+                                trade)
 from bypassopt.commands._run import DEFAULT_OUT, Parser
 
 #: Command name -> module, in the order of ``bypassopt --help``.
-MODULES = {m.NAME: m for m in (evaluate, optimize, carpet, trade, reengine, check_derivatives, scenario)}
+MODULES = {m.NAME: m for m in (evaluate, optimize, carpet, trade, reengine, multistart, check_derivatives,
+                               scenario)}
 
 #: Command name -> ``run(run, scenario)`` returning (result, exit code).
 COMMANDS = {name: m.run for name, m in MODULES.items()}
