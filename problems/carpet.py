@@ -261,16 +261,23 @@ def _carpet_block(scenario, objective, outputs, bpr, opr, fpr_mode, fixed_fpr, s
         idx = np.flatnonzero(ok)
         if idx.size:
             step(f"starting FPR of {idx.size} designs near jet velocity ratio {START_JET_VELOCITY_RATIO:g}")
-            prob, fpr_opt, fpr_info = _optimise_fpr(scenario, objective, bpr[idx], opr[idx], start[idx], step,
-                                                          comm)
-            fpr[idx] = fpr_opt
-            if prob is not None:
-                for name, units in outputs.items():
-                    values[name][idx] = prob.get_val(name, units=units)
-            else:
-                sub, ok[idx] = evaluator.evaluate({"BPR": bpr[idx], "OPR": opr[idx], "FPR": fpr_opt})
-                for name in outputs:
-                    values[name][idx] = sub[name]
+            parts = _optimise_fpr_in_parts(scenario, objective, bpr[idx], opr[idx], start[idx], step, comm)
+            for part, prob, fpr_opt, _ in parts:
+                where = idx[part]
+                if prob is None and fpr_opt is None:  # a single design whose vectorized start failed
+                    ok[where] = False
+                    continue
+                fpr[where] = fpr_opt
+                if prob is not None:
+                    for name, units in outputs.items():
+                        values[name][where] = prob.get_val(name, units=units)
+                else:
+                    sub, ok[where] = evaluator.evaluate({"BPR": bpr[where], "OPR": opr[where], "FPR": fpr_opt})
+                    for name in outputs:
+                        values[name][where] = sub[name]
+            fpr_info = _merge_fpr_info([info for *_, info in parts if info is not None])
+            idx = np.concatenate([idx[part] for part, prob, fpr_opt, _ in parts
+                                  if not (prob is None and fpr_opt is None)]) if parts else idx
         else:
             step("no design could be evaluated")
             step("no design could be evaluated")
@@ -330,6 +337,43 @@ def _carpet_cases(scenario, objective, outputs, bpr, opr, fpr_mode, fixed_fpr, p
         for j, key in enumerate(_FPR_INFO_SUMS):
             fpr_info[key] = int(np.sum(tails[optimised, 3 + j]))
     return values, ok, fpr, fpr_info, model_runs
+
+
+def _optimise_fpr_in_parts(scenario, objective, bpr, opr, fpr_start, progress_step, comm):
+    """``_optimise_fpr`` of the designs, halved where the vectorized start itself raises; [(part, prob, FPR, info)].
+
+    Every design passed the screen one batch or one design at a time, yet the vectorized start of the FPR
+    optimisation can still fail (a batch's common Newton path differs from a smaller batch's). Such a batch is
+    split in halves, each optimised on its own; a single design that still fails is returned with prob and FPR
+    None (the caller marks it failed). A batch that runs is one part, as before.
+    """
+    try:
+        prob, fpr, info = _optimise_fpr(scenario, objective, bpr, opr, fpr_start, progress_step, comm)
+        return [(np.arange(bpr.size), prob, fpr, info)]
+    except om.AnalysisError:
+        if bpr.size == 1:
+            return [(np.arange(1), None, None, None)]
+    half = bpr.size // 2
+    parts = []
+    for part in (np.arange(half), np.arange(half, bpr.size)):
+        for sub, prob, fpr, info in _optimise_fpr_in_parts(scenario, objective, bpr[part], opr[part],
+                                                           fpr_start[part], lambda message: None, comm):
+            parts.append((part[sub], prob, fpr, info))
+    return parts
+
+
+def _merge_fpr_info(infos):
+    """One FPR optimisation summary of the parts' (the single part's own where there is one)."""
+    if len(infos) == 1:
+        return infos[0]
+    if not infos:
+        return None
+    merged = {"success": all(i["success"] for i in infos),
+              "message": "; ".join(sorted({i["message"] for i in infos})) + f" ({len(infos)} parts)",
+              "start_FPR": np.concatenate([np.atleast_1d(i["start_FPR"]) for i in infos])}
+    for key in _FPR_INFO_SUMS:
+        merged[key] = sum(i[key] for i in infos)
+    return merged
 
 
 def run_carpet(scenario=None, bpr_values=None, opr_values=None, fpr_mode=None, fixed_fpr=None, progress=None,

@@ -40,7 +40,10 @@ def self_comm(comm):
 class CaseComp(om.ExplicitComponent):
     """Run case ``case`` of a study (option ``run_case``) and output its flat result vector.
 
-    No derivatives: the cases are driven by a DOE, never differentiated.
+    A case that raises gives ``failed`` = 1 and NaN results, and its message is kept in ``errors`` {case: text} on
+    the process that ran it (a failure raised out of ``compute`` would not reach the case records: OpenMDAO 3.41's
+    DOEDriver recorded such a case as a success, with the previous case's outputs). No derivatives: the cases are
+    driven by a DOE, never differentiated.
     """
 
     def initialize(self):
@@ -54,17 +57,23 @@ class CaseComp(om.ExplicitComponent):
         self.add_input("case", val=0.0, units=None, desc="case number (an integer)")
         self.add_output("result", val=np.zeros(self.options["size"]), units=None,
                         desc="the case's results, flattened as the study defines")
+        self.add_output("failed", val=0.0, units=None, desc="1 where the case raised (its results are NaN), else 0")
+        self.errors = {}
 
     def compute(self, inputs, outputs):
         """Run the case on this component's communicator (one process per case)."""
         k = int(round(float(np.real(inputs["case"][0]))))
+        outputs["failed"] = 1.0
+        outputs["result"] = np.nan
         try:
             result = np.asarray(self.options["run_case"](k, self.comm), dtype=float).ravel()
-        except Exception as err:  # recorded as the case's failure (DOEDriver goes on), raised once all are read
-            raise om.AnalysisError(f"{type(err).__name__}: {err}") from err
-        if result.size != self.options["size"]:
-            raise ValueError(f"case {k} returned {result.size} values, expected {self.options['size']}")
+            if result.size != self.options["size"]:
+                raise ValueError(f"case {k} returned {result.size} values, expected {self.options['size']}")
+        except Exception as err:  # recorded as the case's failure; raised by run_cases once every case is read
+            self.errors[k] = f"{type(err).__name__}: {err}"
+            return
         outputs["result"] = result
+        outputs["failed"] = 0.0
 
 
 def run_cases(run_case, num_cases, size, comm=None, workdir=None):
@@ -109,7 +118,7 @@ def run_cases(run_case, num_cases, size, comm=None, workdir=None):
         prob.model.add_design_var("case", lower=0.0, upper=float(max(num_cases - 1, 1)))
         cases = [[("case", float(k))] for k in range(num_cases)]
         prob.driver = om.DOEDriver(om.ListGenerator(cases), run_parallel=nprocs > 1, procs_per_model=1)
-        prob.driver.recording_options["includes"] = ["result"]
+        prob.driver.recording_options["includes"] = ["result", "failed"]
         prob.driver.add_recorder(om.SqliteRecorder(path))
         prob.setup()
         prob.run_driver()
@@ -118,11 +127,12 @@ def run_cases(run_case, num_cases, size, comm=None, workdir=None):
             comm.barrier()  # the metadata file (process 0) is complete before any process reads
         try:
             own_file = f"{path}_{rank}" if nprocs > 1 else path
+            errors = prob.model.cases.errors
             for case in om.CaseReader(own_file).get_cases("driver", recurse=False):
                 k = int(round(float(case.get_val("case")[0])))
                 records[k] = np.array(case.get_val("result"), dtype=float)
-                if not case.success:
-                    failed.append(f"case {k}: {case.msg}")
+                if case.get_val("failed")[0] > 0.5 or not case.success:
+                    failed.append(f"case {k}: {errors.get(k) or case.msg}")
         except Exception as err:  # reported on every process below, never left to hang the others
             failed.append(f"reading the case file of process {rank}: {type(err).__name__}: {err}")
         if nprocs > 1:  # every process gets every record (and every failure) before anything is raised
