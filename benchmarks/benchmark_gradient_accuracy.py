@@ -37,7 +37,13 @@ CS_STEP = 1.0e-40
 
 #: Option variants that change a component's equations (the default options are always checked too).
 #: Options in place of the defaults for components whose default options give them no variable to check.
+def _two_value_case(k, comm):
+    """A study case for ``CaseComp``'s check: two numbers that depend on the case number only."""
+    return np.array([1.0, 2.0]) * (k + 1)
+
+
 DEFAULT_OPTIONS = {
+    "CaseComp": ("a two-value case", {"run_case": _two_value_case, "size": 2}),
     "FlightNodeBroadcastComp": ("two quantities", {"quantities": {"area8_design": (0.2, "m**2", "core nozzle area"),
                                                                   "W2_design": (200.0, "kg/s", "inlet flow")}}),
 }
