@@ -43,8 +43,8 @@ class CaseComp(om.ExplicitComponent):
     A case that raises gives ``failed`` = 1 and NaN results, and its message is kept in ``errors`` {case: text} on
     the process that ran it (a failure raised out of ``compute`` would not reach the case records: OpenMDAO 3.41's
     DOEDriver recorded such a case as a success, with the previous case's outputs). The outputs are piecewise
-    constant in the case number (an integer index), so their partial derivatives are zero, declared and computed
-    as such; the cases are driven by a DOE, never differentiated.
+    constant in the case number (an integer index), so their partial derivatives are zero and left undeclared (as
+    OpenMDAO asks for zero partials); the cases are driven by a DOE, never differentiated.
     """
 
     def initialize(self):
@@ -61,14 +61,11 @@ class CaseComp(om.ExplicitComponent):
         self.add_output("failed", val=0.0, units=None, desc="1 where the case raised (its results are NaN), else 0")
         self.errors = {}
 
-    def setup_partials(self):
-        """Declare the (zero) partials of the outputs with respect to the case number."""
-        self.declare_partials(["result", "failed"], "case", val=0.0)
-
     def compute_partials(self, inputs, partials):
-        """Zero: a case number is an index, and the outputs are constant between integers."""
-        partials["result", "case"] = 0.0
-        partials["failed", "case"] = 0.0
+        """Compute nothing: every partial is zero, and OpenMDAO asks that zero partials be left undeclared.
+
+        The case number is an index; the outputs are constant between integers.
+        """
 
     def compute(self, inputs, outputs):
         """Run the case on this component's communicator (one process per case)."""
